@@ -1,0 +1,48 @@
+using Runfold.Client;
+using Runfold.Server.Auth;
+using Runfold.Server.Data;
+using Runfold.Server.Hosting;
+using Runfold.Server.Runs;
+using Runfold.Server.Studies;
+using Scalar.AspNetCore;
+
+if (CommandLine.IsCommand(args)) return await CommandLine.RunAsync(args);
+
+var builder = WebApplication.CreateBuilder(args);
+builder.WebHost.UseStaticWebAssets();
+
+var settings = RunfoldSettings.From(builder.Configuration);
+builder.Services.AddSingleton(settings);
+builder.Services.AddSingleton(TimeProvider.System);
+// First hosted service: migrations must run before anything else (data protection's key ring) reads the database.
+builder.Services.AddHostedService<StartupTasks>();
+builder.Services.AddRunfoldHttp();
+builder.Services.AddRunfoldStorage(settings);
+builder.Services.AddRunfoldAuth();
+builder.Services.AddRunfoldHealth();
+builder.Services.AddStudies();
+builder.Services.AddRuns();
+builder.Services.AddRunfoldPages();
+
+var app = builder.Build();
+
+app.UseExceptionHandler();
+app.UseStatusCodePages();
+app.UseAuthentication();
+app.UseAuthorization();
+app.UseAntiforgery();
+
+app.MapStaticAssets();
+app.MapOpenApi();
+app.MapScalarApiReference("/api-docs", o => o.WithTitle("Runfold API"));
+app.MapHealthApi();
+app.MapSignInApi();
+app.MapStudiesApi();
+app.MapRunsApi();
+app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
+
+await app.RunAsync();
+return 0;
+
+/// <summary>The entry point, visible to the test host.</summary>
+public partial class Program;
