@@ -1,0 +1,67 @@
+using Microsoft.Playwright;
+
+namespace Runfold.Browser.Tests.Infrastructure;
+
+/// <summary>Debian's Chromium, headless, driven by Playwright; screenshots go to the test artefacts folder.</summary>
+public sealed class ChromiumBrowser : IAsyncDisposable
+{
+    private readonly IPlaywright _playwright;
+
+    private ChromiumBrowser(IPlaywright playwright, IBrowser browser) => (_playwright, Browser) = (playwright, browser);
+
+    public IBrowser Browser { get; }
+
+    public static async Task<ChromiumBrowser> LaunchAsync()
+    {
+        var executable = Environment.GetEnvironmentVariable("RUNFOLD_CHROMIUM") ?? "/usr/bin/chromium";
+        if (!File.Exists(executable))
+            throw new InvalidOperationException($"Chromium is not at {executable}. Run the tests with Tests/run.sh, which installs it, or set RUNFOLD_CHROMIUM.");
+        var playwright = await Playwright.CreateAsync();
+        var browser = await playwright.Chromium.LaunchAsync(new BrowserTypeLaunchOptions
+        {
+            ExecutablePath = executable,
+            Headless = true,
+            Args =
+            [
+                "--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+                "--disable-sync", "--no-first-run", "--disable-quic", "--disable-dev-shm-usage",
+            ],
+        });
+        return new ChromiumBrowser(playwright, browser);
+    }
+
+    /// <summary>A fresh context (its own cookies: one person) with a 1280×800 window.</summary>
+    public Task<IBrowserContext> NewPersonAsync() =>
+        Browser.NewContextAsync(new BrowserNewContextOptions { ViewportSize = new ViewportSize { Width = 1280, Height = 800 } });
+
+    public static string ArtifactsFolder()
+    {
+        var folder = Environment.GetEnvironmentVariable("RUNFOLD_TEST_ARTIFACTS")
+                     ?? Path.Combine(ServerProcess.RepositoryRoot(), "Tests", "artifacts");
+        var screenshots = Path.Combine(folder, "screenshots");
+        Directory.CreateDirectory(screenshots);
+        return screenshots;
+    }
+
+    public static async Task<string> ScreenshotAsync(IPage page, string name)
+    {
+        ArgumentNullException.ThrowIfNull(page);
+        var path = Path.Combine(ArtifactsFolder(), name + ".png");
+        await page.ScreenshotAsync(new PageScreenshotOptions { Path = path, FullPage = true });
+        return path;
+    }
+
+    /// <summary>Waits until the page's circuit is connected (the layout marks itself <c>data-live="on"</c>), so
+    /// clicks are handled by the interactive router rather than racing the first connection.</summary>
+    public static Task WaitUntilLiveAsync(IPage page)
+    {
+        ArgumentNullException.ThrowIfNull(page);
+        return Assertions.Expect(page.Locator("[data-live=on]")).ToBeAttachedAsync(new() { Timeout = 15_000 });
+    }
+
+    public async ValueTask DisposeAsync()
+    {
+        await Browser.DisposeAsync();
+        _playwright.Dispose();
+    }
+}
