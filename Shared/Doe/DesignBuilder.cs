@@ -147,7 +147,7 @@ public static class DesignBuilder
         {
             var found = FractionalFactorial.WithRuns(k, runs);
             if (found is null)
-                return Invalid("design.runs", $"For {k} factors the table has {string.Join(", ", FractionalFactorial.For(k).Select(p => p.Runs.ToString("N0", CultureInfo.InvariantCulture)))} runs; {runs} is not one of them.");
+                return Invalid("design.runs", $"For {k} factors the table has {string.Join(", ", FractionalFactorial.For(k).Select(p => p.Runs).Order().Select(r => r.ToString("N0", CultureInfo.InvariantCulture)))} runs; {runs} is not one of them.");
             if (c.Spec.Resolution is { } wanted && (found.Resolution ?? int.MaxValue) < wanted)
                 return Invalid("design.resolution", $"The {runs}-run fraction for {k} factors has resolution {FractionalFactorial.Roman(found.Resolution!.Value)}, below the {FractionalFactorial.Roman(wanted)} asked for; leave out runs to get the smallest fraction that meets it.");
             plan = found;
