@@ -171,11 +171,16 @@ public static class LatinHypercube
                         var delta = SwapDelta(r1, r2, column);
                         if (delta < bestDelta) (bestDelta, bestR1, bestR2) = (delta, r1, r2);
                     }
-                    var trial = Phi(Math.Max(sum + bestDelta, double.Epsilon));
+                    // A swap that removes a dominant close pair changes the sum by nearly all of it; the
+                    // difference then loses its digits, so such a trial is summed afresh.
+                    var exact = Math.Abs(bestDelta) > 1e-3 * sum;
+                    if (exact) Swap(bestR1, bestR2, column);
+                    var trialSum = exact ? Sum() : sum + bestDelta;
+                    var trial = Phi(trialSum);
                     if (trial - phi <= threshold * _random.NextDouble())
                     {
-                        Swap(bestR1, bestR2, column);
-                        sum += bestDelta;
+                        if (!exact) Swap(bestR1, bestR2, column);
+                        sum = trialSum;
                         phi = trial;
                         accepted++;
                         if (phi < bestPhi)
@@ -185,6 +190,7 @@ public static class LatinHypercube
                             improved++;
                         }
                     }
+                    else if (exact) Swap(bestR1, bestR2, column); // undo
                 }
                 sum = Sum(); // the running sum drifts by rounding; start each outer iteration exact
                 phi = Phi(sum);
