@@ -15,7 +15,7 @@ public sealed record DOptimalOptions(
     int Seed,
     int Starts = 8)
 {
-    /// <summary>Candidate sets up to this size are listed, for the point-exchange polish and the feasibility count.</summary>
+    /// <summary>Candidate sets up to this size are listed, for the feasibility count and random starts.</summary>
     public const int MaxListedCandidates = 50_000;
 }
 
@@ -52,6 +52,7 @@ public static class DOptimal
         private readonly List<int[]>? _candidates;
         private readonly double _ridge;
 
+
         public Search(FactorSpace space, DOptimalOptions options)
         {
             _space = space;
@@ -86,11 +87,11 @@ public static class DOptimal
 
         private bool Feasible(int[] index) => _o.Constraints.IsEmpty || _o.Constraints.IsFeasible(_space.FromCoded(Coded(index)));
 
-        private Vector<double> Terms(int[] index)
+        private double[] Terms(int[] index)
         {
             var terms = new double[_p];
             _model.Row(Coded(index), terms);
-            return Vector<double>.Build.Dense(terms);
+            return terms;
         }
 
         private static string Key(int[] index) => string.Join(",", index);
@@ -107,6 +108,7 @@ public static class DOptimal
             var random = new Random(_o.Seed);
             int[][]? best = null;
             var bestLogDet = double.NegativeInfinity;
+            var candidateTerms = _candidates is { Count: <= MaxPointExchange } c ? c.Select(Terms).ToArray() : null;
             for (var start = 0; start < _o.Starts; start++)
             {
                 var design = Start(random);
@@ -116,8 +118,8 @@ public static class DOptimal
                     return null;
                 }
                 CoordinateExchange(design);
-                if (_candidates is { Count: <= 5_000 }) PointExchange(design);
-                var logDet = LogDet(design, ridge: 0);
+                if (candidateTerms is not null) PointExchange(design, candidateTerms);
+                var logDet = LogDet(design);
                 if (logDet > bestLogDet + 1e-9 || best is null) (best, bestLogDet) = (design, logDet);
             }
             var coded = Matrix<double>.Build.Dense(_o.Runs, _k);
@@ -128,6 +130,8 @@ public static class DOptimal
             }
             return coded;
         }
+
+        private const int MaxPointExchange = 1_000; // larger sets: coordinate exchange alone (its moves cover the same grid)
 
         private int[][]? Start(Random random)
         {
@@ -148,52 +152,71 @@ public static class DOptimal
             return design.Count == _o.Runs ? [.. design] : null;
         }
 
-        private Matrix<double> Inverse(int[][] design)
-        {
-            var m = Matrix<double>.Build.DenseIdentity(_p) * _ridge;
-            foreach (var run in design)
-            {
-                var x = Terms(run);
-                m += x.OuterProduct(x);
-            }
-            return m.Inverse();
-        }
-
-        private double LogDet(int[][] design, double ridge)
+        private Matrix<double> Information(int[][] design, double ridge)
         {
             var m = Matrix<double>.Build.DenseIdentity(_p) * ridge;
             foreach (var run in design)
             {
-                var x = Terms(run);
+                var x = Vector<double>.Build.Dense(Terms(run));
                 m += x.OuterProduct(x);
             }
-            var eigen = m.Evd(Symmetricity.Symmetric).EigenValues.Select(e => e.Real).ToArray();
+            return m;
+        }
+
+        /// <summary>(X'X + δI)⁻¹ as a row-major array; the small ridge δ lets a singular start improve.</summary>
+        private double[] Inverse(int[][] design) => Information(design, _ridge).Inverse().ToRowMajorArray();
+
+        private double LogDet(int[][] design)
+        {
+            var eigen = Information(design, 0).Evd(Symmetricity.Symmetric).EigenValues.Select(e => e.Real).ToArray();
             return eigen.Min() <= 1e-10 * Math.Max(eigen.Max(), 1e-300) ? double.NegativeInfinity : eigen.Sum(Math.Log);
         }
 
-        /// <summary>det(M − x xᵀ + y yᵀ) / det(M) with A = M⁻¹ (Fedorov's exchange ratio).</summary>
-        private static double Ratio(Matrix<double> a, Vector<double> x, Vector<double> y)
+        private void Multiply(double[] a, double[] x, double[] result)
         {
-            var ax = a * x;
-            var dx = x.DotProduct(ax);
-            var dy = y.DotProduct(a * y);
-            var dxy = y.DotProduct(ax);
+            for (var r = 0; r < _p; r++)
+            {
+                double sum = 0;
+                var offset = r * _p;
+                for (var c = 0; c < _p; c++) sum += a[offset + c] * x[c];
+                result[r] = sum;
+            }
+        }
+
+        private static double Dot(double[] a, double[] b)
+        {
+            double sum = 0;
+            for (var i = 0; i < a.Length; i++) sum += a[i] * b[i];
+            return sum;
+        }
+
+        /// <summary>det(M − x xᵀ + y yᵀ) / det(M) with A = M⁻¹, given Ax and xᵀAx (Fedorov's exchange ratio).</summary>
+        private double Ratio(double[] a, double[] ax, double dx, double[] y, double[] scratch)
+        {
+            Multiply(a, y, scratch);
+            var dy = Dot(y, scratch);
+            var dxy = Dot(y, ax);
             return (1 + dy) * (1 - dx) + dxy * dxy;
         }
 
         /// <summary>A ← (M − x xᵀ + y yᵀ)⁻¹ by two Sherman–Morrison steps.</summary>
-        private static Matrix<double> Exchange(Matrix<double> a, Vector<double> x, Vector<double> y)
+        private void Exchange(double[] a, double[] x, double[] y, double[] scratch)
         {
-            var ay = a * y;
-            a -= ay.OuterProduct(ay) / (1 + y.DotProduct(ay));
-            var ax = a * x;
-            a += ax.OuterProduct(ax) / (1 - x.DotProduct(ax));
-            return a;
+            Multiply(a, y, scratch);
+            var scale = 1 / (1 + Dot(y, scratch));
+            for (var r = 0; r < _p; r++)
+                for (var c = 0; c < _p; c++) a[r * _p + c] -= scratch[r] * scratch[c] * scale;
+            Multiply(a, x, scratch);
+            scale = 1 / (1 - Dot(x, scratch));
+            for (var r = 0; r < _p; r++)
+                for (var c = 0; c < _p; c++) a[r * _p + c] += scratch[r] * scratch[c] * scale;
         }
 
         private void CoordinateExchange(int[][] design)
         {
             var keys = new HashSet<string>(design.Select(Key));
+            var ax = new double[_p];
+            var scratch = new double[_p];
             for (var pass = 0; pass < 50; pass++)
             {
                 var a = Inverse(design); // fresh each pass so the rank-two updates do not drift
@@ -203,6 +226,8 @@ public static class DOptimal
                     {
                         var run = design[i];
                         var x = Terms(run);
+                        Multiply(a, x, ax);
+                        var dx = Dot(x, ax);
                         var (bestLevel, bestRatio) = (-1, 1 + 1e-9);
                         var current = run[j];
                         for (var l = 0; l < _o.Levels[j].Length; l++)
@@ -211,7 +236,7 @@ public static class DOptimal
                             run[j] = l;
                             if (Feasible(run))
                             {
-                                var ratio = Ratio(a, x, Terms(run));
+                                var ratio = Ratio(a, ax, dx, Terms(run), scratch);
                                 if (ratio > bestRatio && !keys.Contains(Key(run))) (bestLevel, bestRatio) = (l, ratio);
                             }
                             run[j] = current;
@@ -220,18 +245,19 @@ public static class DOptimal
                         keys.Remove(Key(run));
                         run[j] = bestLevel;
                         keys.Add(Key(run));
-                        a = Exchange(a, x, Terms(run));
+                        Exchange(a, x, Terms(run), scratch);
                         improved = true;
                     }
                 if (!improved) return;
             }
         }
 
-        private void PointExchange(int[][] design)
+        private void PointExchange(int[][] design, double[][] terms)
         {
             var candidates = _candidates!;
-            var terms = candidates.Select(Terms).ToArray();
             var keys = new HashSet<string>(design.Select(Key));
+            var ax = new double[_p];
+            var scratch = new double[_p];
             for (var pass = 0; pass < 20; pass++)
             {
                 var a = Inverse(design);
@@ -239,17 +265,19 @@ public static class DOptimal
                 for (var i = 0; i < design.Length; i++)
                 {
                     var x = Terms(design[i]);
+                    Multiply(a, x, ax);
+                    var dx = Dot(x, ax);
                     var (best, bestRatio) = (-1, 1 + 1e-9);
                     for (var c = 0; c < candidates.Count; c++)
                     {
-                        var ratio = Ratio(a, x, terms[c]);
+                        var ratio = Ratio(a, ax, dx, terms[c], scratch);
                         if (ratio > bestRatio && !keys.Contains(Key(candidates[c]))) (best, bestRatio) = (c, ratio);
                     }
                     if (best < 0) continue;
                     keys.Remove(Key(design[i]));
                     design[i] = (int[])candidates[best].Clone();
                     keys.Add(Key(design[i]));
-                    a = Exchange(a, x, terms[best]);
+                    Exchange(a, x, terms[best], scratch);
                     improved = true;
                 }
                 if (!improved) return;

@@ -107,6 +107,12 @@ public sealed class DesignConstraints
         public static Inequality? TryCreate(string text, FactorSpace space, out string? error)
         {
             error = null;
+            if (text.Contains('^', StringComparison.Ordinal))
+            {
+                // NCalc reads '^' as bitwise exclusive or, with a precedence that would silently change the meaning.
+                error = $"In the constraint \"{text}\": '^' is not a power here; write x ** 2 or Pow(x, 2).";
+                return null;
+            }
             LogicalExpression tree;
             try
             {
@@ -184,7 +190,6 @@ public sealed class DesignConstraints
                 BinaryExpressionType.Div => LinqExpression.Divide(left, right),
                 BinaryExpressionType.Modulo => LinqExpression.Modulo(left, right),
                 BinaryExpressionType.Exponentiation => LinqExpression.Power(left, right),
-                BinaryExpressionType.BitwiseXOr => Fail("'^' is not a power here; write x ** 2 or Pow(x, 2)."),
                 BinaryExpressionType.LesserOrEqual or BinaryExpressionType.Lesser or BinaryExpressionType.GreaterOrEqual
                     or BinaryExpressionType.Greater or BinaryExpressionType.Equal or BinaryExpressionType.NotEqual =>
                     Fail("use exactly one comparison per constraint; split a chain like a <= b <= c into two constraints."),
