@@ -37,7 +37,24 @@ public static class DesignMetrics
     public static double MinDistance(Matrix<double> coded)
     {
         ArgumentNullException.ThrowIfNull(coded);
-        var rows = ToRows(coded);
+        return MinDistance(ToRows(coded));
+    }
+
+    /// <summary>The same for points given as rows of an array (for example a design in the unit cube).</summary>
+    public static double MinDistance(double[,] points)
+    {
+        ArgumentNullException.ThrowIfNull(points);
+        var rows = new double[points.GetLength(0)][];
+        for (var i = 0; i < rows.Length; i++)
+        {
+            rows[i] = new double[points.GetLength(1)];
+            for (var j = 0; j < rows[i].Length; j++) rows[i][j] = points[i, j];
+        }
+        return MinDistance(rows);
+    }
+
+    private static double MinDistance(double[][] rows)
+    {
         var best = double.PositiveInfinity;
         for (var a = 0; a < rows.Length; a++)
             for (var b = a + 1; b < rows.Length; b++)

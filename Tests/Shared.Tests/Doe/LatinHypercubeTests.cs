@@ -44,8 +44,8 @@ public sealed class LatinHypercubeTests
         var scipyMedian = fixture.GetProperty("median").GetDouble();
 
         var seeds = Enumerable.Range(0, 11).ToArray();
-        var maximin = seeds.Select(s => UnitMinDistance(LatinHypercube.Maximin(n, k, s))).Order().ToArray();
-        var random = seeds.Select(s => UnitMinDistance(LatinHypercube.Random(n, k, s))).Order().ToArray();
+        var maximin = seeds.Select(s => DesignMetrics.MinDistance(LatinHypercube.Maximin(n, k, s))).Order().ToArray();
+        var random = seeds.Select(s => DesignMetrics.MinDistance(LatinHypercube.Random(n, k, s))).Order().ToArray();
         var ourMedian = maximin[5];
         Assert.True(ourMedian > scipyMedian, $"maximin median {ourMedian:0.####} vs scipy random-cd median {scipyMedian:0.####}");
         Assert.True(maximin[0] > scipyMedian, $"even the worst maximin seed ({maximin[0]:0.####}) beats scipy's median {scipyMedian:0.####}");
@@ -83,18 +83,5 @@ public sealed class LatinHypercubeTests
         var built = DesignBuilder.Build(DoeFixtures.HeatSink(), new DesignSpec(DesignMethod.LatinHypercube)).Value!;
         Assert.Equal(50, built.Matrix.RunCount);
         Assert.Contains(built.Notes, n => n.Contains("Loeppky", StringComparison.Ordinal));
-    }
-
-    private static double UnitMinDistance(double[,] unit)
-    {
-        var best = double.PositiveInfinity;
-        for (var a = 0; a < unit.GetLength(0); a++)
-            for (var b = a + 1; b < unit.GetLength(0); b++)
-            {
-                double s = 0;
-                for (var j = 0; j < unit.GetLength(1); j++) s += (unit[a, j] - unit[b, j]) * (unit[a, j] - unit[b, j]);
-                best = Math.Min(best, s);
-            }
-        return Math.Sqrt(best);
     }
 }
