@@ -2,14 +2,15 @@
 // evolutionary algorithm on the φp criterion (Jin, Chen & Sudjianto 2005, J. Stat. Plan. Inference 134, 268–287).
 namespace Runfold.Shared.Doe;
 
-/// <summary>Options of the maximin search. <see cref="OuterIterations"/> bounds the work; the inner loop sizes
+/// <summary>Options of the maximin search. <see cref="OuterIterations"/> is the most outer iterations (a fixed work
+/// budget gives large designs fewer, at least two); the inner loop sizes
 /// follow the paper (J = min(pairs/5, 50) swaps tried, M = min(2·pairs·k/J, 100) steps per outer iteration).</summary>
 public sealed record LatinHypercubeOptions(int OuterIterations = 40, int Power = 50)
 {
     public static LatinHypercubeOptions Default { get; } = new();
 
     /// <summary>Above this many runs the pairwise-distance table gets too large; the design stays random.</summary>
-    public const int MaxOptimisedRuns = 2_000;
+    public const int MaxOptimisedRuns = 1_000;
 }
 
 public static class LatinHypercube
@@ -61,34 +62,46 @@ public static class LatinHypercube
     }
 
     /// <summary>The search works on whole stratum indices, so squared distances are integers and d^−p comes
-    /// from a table when that table is small enough.</summary>
+    /// from a table when that table is small enough. Columns and the distance table are flat arrays: the
+    /// inner loop is the whole cost.</summary>
     private sealed class EnhancedStochasticEvolution
     {
         private const int MaxTable = 4_000_000;
-        private readonly int[][] _x;
+
+        /// <summary>Distance updates one design may spend (each tried swap costs n); large designs get fewer
+        /// outer iterations, never fewer than two.</summary>
+        private const double WorkBudget = 3e7;
+
+        private readonly int[][] _columns; // _columns[c][i]: stratum of run i in column c
         private readonly int _n;
         private readonly int _k;
         private readonly LatinHypercubeOptions _options;
         private readonly Random _random;
-        private readonly int[,] _squared;
+        private readonly int[] _squared; // n × n, row-major
+        private readonly double[] _weights; // d^−p of each pair, kept beside the squared distances
         private readonly double[]? _table;
         private readonly double _halfPower;
 
         public EnhancedStochasticEvolution(int[][] start, int dimensions, LatinHypercubeOptions options, Random random)
         {
-            _x = start;
             _n = start.Length;
             _k = dimensions;
             _options = options;
             _random = random;
             _halfPower = options.Power / 2.0;
-            _squared = new int[_n, _n];
+            _columns = new int[_k][];
+            for (var c = 0; c < _k; c++)
+            {
+                _columns[c] = new int[_n];
+                for (var i = 0; i < _n; i++) _columns[c][i] = start[i][c];
+            }
+            _squared = new int[_n * _n];
             for (var a = 0; a < _n; a++)
                 for (var b = a + 1; b < _n; b++)
                 {
                     var s = 0;
-                    for (var j = 0; j < _k; j++) s += (_x[a][j] - _x[b][j]) * (_x[a][j] - _x[b][j]);
-                    _squared[a, b] = _squared[b, a] = s;
+                    for (var c = 0; c < _k; c++) s += (_columns[c][a] - _columns[c][b]) * (_columns[c][a] - _columns[c][b]);
+                    _squared[a * _n + b] = _squared[b * _n + a] = s;
                 }
             var largest = (long)_k * (_n - 1) * (_n - 1);
             if (largest < MaxTable)
@@ -96,6 +109,8 @@ public static class LatinHypercube
                 _table = new double[largest + 1];
                 for (var s = 1; s <= largest; s++) _table[s] = Math.Pow(s, -_halfPower);
             }
+            _weights = new double[_n * _n];
+            for (var i = 0; i < _weights.Length; i++) _weights[i] = _squared[i] == 0 ? 0 : Weight(_squared[i]);
         }
 
         private double Weight(int squared) => _table is { } t ? t[squared] : Math.Pow(squared, -_halfPower);
@@ -104,7 +119,7 @@ public static class LatinHypercube
         {
             double sum = 0;
             for (var a = 0; a < _n; a++)
-                for (var b = a + 1; b < _n; b++) sum += Weight(_squared[a, b]);
+                for (var b = a + 1; b < _n; b++) sum += _weights[a * _n + b];
             return sum;
         }
 
@@ -113,34 +128,48 @@ public static class LatinHypercube
         /// <summary>Change of Σ d^−p when rows r1 and r2 swap their values in column c.</summary>
         private double SwapDelta(int r1, int r2, int c)
         {
-            var a = _x[r1][c];
-            var b = _x[r2][c];
+            var column = _columns[c];
+            var a = column[r1];
+            var b = column[r2];
+            var squared1 = _squared.AsSpan(r1 * _n, _n);
+            var squared2 = _squared.AsSpan(r2 * _n, _n);
+            var weights1 = _weights.AsSpan(r1 * _n, _n);
+            var weights2 = _weights.AsSpan(r2 * _n, _n);
             double delta = 0;
             for (var j = 0; j < _n; j++)
             {
                 if (j == r1 || j == r2) continue;
-                var xj = _x[j][c];
+                var xj = column[j];
                 var change = (b - xj) * (b - xj) - (a - xj) * (a - xj);
-                delta += Weight(_squared[r1, j] + change) - Weight(_squared[r1, j])
-                       + Weight(_squared[r2, j] - change) - Weight(_squared[r2, j]);
+                if (change == 0) continue;
+                delta += Weight(squared1[j] + change) - weights1[j] + Weight(squared2[j] - change) - weights2[j];
             }
             return delta;
         }
 
         private void Swap(int r1, int r2, int c)
         {
-            var a = _x[r1][c];
-            var b = _x[r2][c];
+            var column = _columns[c];
+            var a = column[r1];
+            var b = column[r2];
             for (var j = 0; j < _n; j++)
             {
                 if (j == r1 || j == r2) continue;
-                var xj = _x[j][c];
+                var xj = column[j];
                 var change = (b - xj) * (b - xj) - (a - xj) * (a - xj);
-                _squared[r1, j] = _squared[j, r1] = _squared[r1, j] + change;
-                _squared[r2, j] = _squared[j, r2] = _squared[r2, j] - change;
+                if (change == 0) continue;
+                Set(r1, j, _squared[r1 * _n + j] + change);
+                Set(r2, j, _squared[r2 * _n + j] - change);
             }
-            _x[r1][c] = b;
-            _x[r2][c] = a;
+            column[r1] = b;
+            column[r2] = a;
+        }
+
+        private void Set(int a, int b, int squared)
+        {
+            var weight = Weight(squared);
+            _squared[a * _n + b] = _squared[b * _n + a] = squared;
+            _weights[a * _n + b] = _weights[b * _n + a] = weight;
         }
 
         public int[][] Run()
@@ -148,13 +177,15 @@ public static class LatinHypercube
             var pairs = _n * (_n - 1) / 2;
             var tries = Math.Clamp(pairs / 5, 1, 50);
             var steps = Math.Clamp(2 * pairs * _k / tries, 1, 100);
+            var perOuter = (double)steps * tries * _n + _n * (double)_n / 2;
+            var outerIterations = (int)Math.Clamp(WorkBudget / perOuter, 2, _options.OuterIterations);
             var sum = Sum();
             var phi = Phi(sum);
-            var best = Copy(_x);
+            var best = Snapshot();
             var bestPhi = phi;
             var threshold = 0.005 * phi;
 
-            for (var outer = 0; outer < _options.OuterIterations; outer++)
+            for (var outer = 0; outer < outerIterations; outer++)
             {
                 var bestBefore = bestPhi;
                 int accepted = 0, improved = 0;
@@ -171,9 +202,9 @@ public static class LatinHypercube
                         var delta = SwapDelta(r1, r2, column);
                         if (delta < bestDelta) (bestDelta, bestR1, bestR2) = (delta, r1, r2);
                     }
-                    // A swap that removes a dominant close pair changes the sum by nearly all of it; the
+                    // A swap that removes the dominant close pairs takes nearly all of the sum away; the
                     // difference then loses its digits, so such a trial is summed afresh.
-                    var exact = Math.Abs(bestDelta) > 1e-3 * sum;
+                    var exact = sum + bestDelta < 1e-4 * sum;
                     if (exact) Swap(bestR1, bestR2, column);
                     var trialSum = exact ? Sum() : sum + bestDelta;
                     var trial = Phi(trialSum);
@@ -185,7 +216,7 @@ public static class LatinHypercube
                         accepted++;
                         if (phi < bestPhi)
                         {
-                            best = Copy(_x);
+                            best = Snapshot();
                             bestPhi = phi;
                             improved++;
                         }
@@ -209,6 +240,16 @@ public static class LatinHypercube
             return best;
         }
 
-        private static int[][] Copy(int[][] x) => [.. x.Select(r => (int[])r.Clone())];
+        /// <summary>The current design as rows (run → strata).</summary>
+        private int[][] Snapshot()
+        {
+            var rows = new int[_n][];
+            for (var i = 0; i < _n; i++)
+            {
+                rows[i] = new int[_k];
+                for (var c = 0; c < _k; c++) rows[i][c] = _columns[c][i];
+            }
+            return rows;
+        }
     }
 }
