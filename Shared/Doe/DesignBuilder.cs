@@ -191,7 +191,10 @@ public static class DesignBuilder
             : $"2^({k}−{layout.Core.Fraction}) resolution {FractionalFactorial.Roman(layout.Core.Resolution!.Value)} = {layout.Core.Runs}";
         var note = string.Create(CultureInfo.InvariantCulture,
             $"Central composite ({Word(variant)}, α = {layout.Alpha:0.###}{(layout.Rotatable ? ", rotatable" : "")}): {core} factorial + {layout.AxialRuns} axial + {layout.CenterRuns} centre = {layout.RunCount} runs.");
-        var result = Ok(c, CentralComposite.Generate(layout), DesignMethod.CentralComposite, note, summary.Note);
+        // Inside the ranges the layout is a note; outside, it leads the warnings (and the composite summary).
+        var result = layout.StaysInsideRanges
+            ? Ok(c, CentralComposite.Generate(layout), DesignMethod.CentralComposite, note, summary.Note)
+            : Ok(c, CentralComposite.Generate(layout), DesignMethod.CentralComposite, note);
         var warnings = result.Value!.Warnings.ToList();
         if (!layout.StaysInsideRanges) warnings.Insert(0, summary.Note);
         foreach (var f in c.Space.Factors.Where(f => f.Low >= 0 && f.Scale == FactorScale.Linear && f.FromCoded(-layout.Alpha) < 0 && !layout.StaysInsideRanges))

@@ -27,7 +27,9 @@ public sealed record ResponseSpec(
 
 /// <summary>Which design generates the runs, with the knobs each method reads (others ignore the rest).
 /// <see cref="Model"/> is "linear", "interactions" or "quadratic"; <see cref="Maximin"/> (Latin hypercube,
-/// default true) optimises the smallest distance between runs.</summary>
+/// default true) optimises the smallest distance between runs. Of the central composite variants only
+/// circumscribed (the default) places runs outside the factor ranges, at ±α; inscribed and faceCentered stay
+/// inside.</summary>
 public sealed record DesignSpec(
     DesignMethod Method,
     int? Runs = null,
