@@ -315,6 +315,11 @@ public static class DesignBuilder
         var constrained = !c.Constraints.IsEmpty;
         var defaults = c.Space.Factors.Select(f => DOptimal.DefaultLevels(f, constrained)).ToArray();
         var counts = LevelCounts(c.Space, c.Spec.Levels, [.. defaults.Select(d => d.Length)], "D-optimal design", errors);
+        if (c.Model == DesignModelKind.Quadratic)
+            for (var j = 0; j < c.Space.Count; j++)
+                if (counts[j] < 3 && (c.Space[j].Kind == FactorKind.Continuous || (c.Space[j].Kind == FactorKind.Integer && c.Space[j].High - c.Space[j].Low >= 2)))
+                    errors.Add(c.Spec.Levels is { Count: > 1 } ? $"design.levels[{j}]" : "design.levels",
+                        $"The quadratic model needs at least three levels of '{c.Space[j].Name}' to estimate its curvature; {counts[j]} were given.");
         var terms = new DesignModel(c.Space, c.Model).TermCount;
         var runs = c.Spec.Runs ?? (int)Math.Ceiling(1.5 * terms);
         if (runs < terms)

@@ -64,6 +64,9 @@ public sealed class DOptimalTests
         Assert.Contains("10 terms", refused.Errors!["design.runs"][0], StringComparison.Ordinal);
         Assert.Equal(15, DesignBuilder.Build(space, new DesignSpec(DesignMethod.DOptimal)).Value!.Matrix.RunCount);
         Assert.Equal(OutcomeKind.Invalid, DesignBuilder.Build(space, new DesignSpec(DesignMethod.DOptimal, Model: "cubic")).Kind);
+        var twoLevels = DesignBuilder.Build(space, new DesignSpec(DesignMethod.DOptimal, Levels: [2]));
+        Assert.Contains("at least three levels of 'x1'", twoLevels.Errors!["design.levels"][0], StringComparison.Ordinal);
+        Assert.True(DesignBuilder.Build(space, new DesignSpec(DesignMethod.DOptimal, Runs: 8, Levels: [2], Model: "interactions")).IsOk);
     }
 
     [Fact]
