@@ -25,6 +25,11 @@ public static class SobolSequence
 
         const double scale = 1.0 / (1u << Bits);
         var points = new double[count, dimensions];
+        if (count == 0) return points;
+        var flat = System.Runtime.InteropServices.MemoryMarshal.CreateSpan(ref points[0, 0], count * dimensions);
+        var byBit = new uint[Bits * dimensions]; // direction numbers grouped by bit, so one step reads one run of memory
+        for (var j = 0; j < Bits; j++)
+            for (var d = 0; d < dimensions; d++) byBit[j * dimensions + d] = directions[d, j];
         var current = (uint[])shift.Clone();
         for (var i = 0; i < count; i++)
         {
@@ -32,9 +37,11 @@ public static class SobolSequence
             {
                 // Gray-code step: flip by the direction number of the lowest zero bit of i − 1.
                 var c = System.Numerics.BitOperations.TrailingZeroCount(~(uint)(i - 1));
-                for (var d = 0; d < dimensions; d++) current[d] ^= directions[d, c];
+                var step = byBit.AsSpan(c * dimensions, dimensions);
+                for (var d = 0; d < dimensions; d++) current[d] ^= step[d];
             }
-            for (var d = 0; d < dimensions; d++) points[i, d] = current[d] * scale;
+            var row = flat.Slice(i * dimensions, dimensions);
+            for (var d = 0; d < dimensions; d++) row[d] = current[d] * scale;
         }
         return points;
     }
