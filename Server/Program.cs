@@ -1,6 +1,7 @@
 using Runfold.Client;
 using Runfold.Server.Auth;
 using Runfold.Server.Data;
+using Runfold.Server.Designs;
 using Runfold.Server.Hosting;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
@@ -22,6 +23,7 @@ builder.Services.AddRunfoldAuth();
 builder.Services.AddRunfoldHealth();
 builder.Services.AddStudies();
 builder.Services.AddRuns();
+builder.Services.AddDesigns();
 builder.Services.AddRunfoldPages();
 
 var app = builder.Build();
@@ -39,6 +41,7 @@ app.MapHealthApi();
 app.MapSignInApi();
 app.MapStudiesApi();
 app.MapRunsApi();
+app.MapDesignsApi();
 app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
 
 await app.RunAsync();

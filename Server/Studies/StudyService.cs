@@ -47,7 +47,7 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
         if (!definition.IsValid) return Outcome<StudyDetail>.Invalid(definition.Errors);
         var (name, description, factors, responses) = definition.Value!;
         var design = DesignBuilder.Build(factors, request!.Design, new DesignLimits(settings.MaxRuns));
-        if (!design.IsValid) return Outcome<StudyDetail>.Unprocessable(design.Errors);
+        if (!design.IsOk) return design.As<StudyDetail>();
         var matrix = design.Value!.Matrix;
 
         var now = time.GetUtcNow();
