@@ -24,6 +24,8 @@ internal sealed class RunConfiguration : IEntityTypeConfiguration<Run>
         // The claim query: the lowest-numbered open runs of a study.
         builder.HasIndex(r => new { r.StudyId, r.State, r.Number });
         builder.HasIndex(r => r.AssigneeId);
+        // The lease sweep: claimed runs whose lease has lapsed.
+        builder.HasIndex(r => new { r.State, r.LeaseExpiresAt });
         builder.Property(r => r.State).HasMaxLength(16);
         builder.Property(r => r.Version).IsConcurrencyToken();
         builder.HasOne<Study>().WithMany().HasForeignKey(r => r.StudyId).OnDelete(DeleteBehavior.Cascade);
@@ -42,6 +44,7 @@ internal sealed class ResultRevisionConfiguration : IEntityTypeConfiguration<Res
         builder.HasIndex(r => new { r.RunId, r.Revision }).IsUnique();
         builder.HasIndex(r => new { r.RunId, r.IdempotencyKey }).IsUnique();
         builder.Property(r => r.IdempotencyKey).HasMaxLength(200);
+        builder.Property(r => r.RequestHash).HasMaxLength(64);
         builder.Property(r => r.State).HasMaxLength(16);
         builder.Property(r => r.Note).HasMaxLength(4000);
         builder.Property(r => r.Values).HasConversion(
