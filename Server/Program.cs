@@ -2,6 +2,7 @@ using Runfold.Client;
 using Runfold.Server.Auth;
 using Runfold.Server.Data;
 using Runfold.Server.Hosting;
+using Runfold.Server.Results;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
 using Scalar.AspNetCore;
@@ -18,16 +19,20 @@ builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddHostedService<StartupTasks>();
 builder.Services.AddRunfoldHttp();
 builder.Services.AddRunfoldStorage(settings);
-builder.Services.AddRunfoldAuth();
+builder.Services.AddRunfoldAuth(settings);
+builder.Services.AddRunfoldRateLimits(settings);
 builder.Services.AddRunfoldHealth();
 builder.Services.AddStudies();
 builder.Services.AddRuns();
+builder.Services.AddResults();
 builder.Services.AddRunfoldPages();
 
 var app = builder.Build();
 
 app.UseExceptionHandler();
 app.UseStatusCodePages();
+app.UseRunfoldSecurityHeaders();
+app.UseRateLimiter();
 app.UseAuthentication();
 app.UseAuthorization();
 app.UseAntiforgery();
@@ -39,6 +44,8 @@ app.MapHealthApi();
 app.MapSignInApi();
 app.MapStudiesApi();
 app.MapRunsApi();
+app.MapResultsApi();
+app.MapAccountApi();
 app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
 
 await app.RunAsync();
