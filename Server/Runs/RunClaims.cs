@@ -135,8 +135,9 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
         for (var attempt = 0; attempt < 3; attempt++)
         {
             var run = await FindAsync(runId, cancellationToken);
-            if (run is null || await db.RoleAsync(caller, run.StudyId, cancellationToken) is null)
-                return Outcome<HeartbeatAnswer>.NotFound(StudyAccess.RunNotVisible(runId));
+            var role = run is null ? null : await db.RoleAsync(caller, run.StudyId, cancellationToken);
+            if (run is null || role is null) return Outcome<HeartbeatAnswer>.NotFound(StudyAccess.RunNotVisible(runId));
+            if (role < StudyRole.Analyst) return Outcome<HeartbeatAnswer>.Forbidden(StudyAccess.Refusal(role.Value, StudyRole.Analyst, "heartbeat runs"));
             var now = time.GetUtcNow();
             if (run.State != RunState.Claimed || run.AssigneeId != caller.UserId || run.LeaseExpiresAt <= now)
                 return Outcome<HeartbeatAnswer>.Conflict(NotHolding(run, caller));
