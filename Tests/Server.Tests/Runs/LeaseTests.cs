@@ -1,8 +1,6 @@
 using System.Net;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
-using Microsoft.Extensions.DependencyInjection.Extensions;
-using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Time.Testing;
 using Runfold.Server.Runs;
 using Runfold.Server.Tests.Infrastructure;
@@ -22,11 +20,7 @@ public sealed class LeaseTests : IAsyncLifetime
 
     public async Task InitializeAsync()
     {
-        _app = await RunfoldApp.StartAsync(services: s =>
-        {
-            s.Replace(ServiceDescriptor.Singleton<TimeProvider>(_clock));
-            s.Remove(s.Single(d => d.ServiceType == typeof(IHostedService) && d.ImplementationType == typeof(LeaseSweepService)));
-        });
+        _app = await RunfoldApp.StartAsync(services: FakeClock.Install(_clock));
         _study = await TestTeam.CreateStudyAsync(_app, TestTeam.HeatSinkStudy("Leases"));
         _ana = await TestTeam.PersonAsync(_app, "ana");
         _ben = await TestTeam.PersonAsync(_app, "ben");
