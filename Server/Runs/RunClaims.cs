@@ -15,7 +15,7 @@ namespace Runfold.Server.Runs;
 /// LOCKED)</c> statement, so several server instances on one database never hand one run to two callers; on
 /// SQLite the claim runs in a write transaction (SQLite has one writer).
 /// </summary>
-public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChangeNotifier changes, RunQueries queries)
+public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChangeNotifier changes, RunQueries queries, FactorSpaces factorSpaces)
 {
     public async Task<Outcome<IReadOnlyList<RunDto>>> ClaimAsync(Caller caller, int studyId, ClaimRequest? request, CancellationToken cancellationToken)
     {
@@ -27,77 +27,113 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
         if (ResultRules.CheckLeaseHours(request.LeaseHours) is { } leaseError) errors.Add("leaseHours", leaseError);
         if (!errors.IsEmpty) return Outcome<IReadOnlyList<RunDto>>.Invalid(errors);
 
-        // One round trip for the role and the study's lease length.
+        if (db.Provider == StorageProvider.Postgres) return await ClaimOnPostgresAsync(caller, studyId, request, cancellationToken);
+
         var study = await db.Studies.Where(s => s.Id == studyId)
             .Select(s => new
             {
                 s.LeaseHours,
+                s.ResultSetVersion,
                 Role = db.StudyMembers.Where(m => m.StudyId == s.Id && m.UserId == caller.UserId).Select(m => (StudyRole?)m.Role).FirstOrDefault(),
             })
             .FirstOrDefaultAsync(cancellationToken);
         var role = caller.IsAdmin && study is not null ? StudyRole.Lead : study?.Role;
-        if (role is null) return Outcome<IReadOnlyList<RunDto>>.NotFound(StudyAccess.NotVisible(studyId));
-        if (role < StudyRole.Analyst) return Outcome<IReadOnlyList<RunDto>>.Forbidden(StudyAccess.Refusal(role.Value, StudyRole.Analyst, "claim runs"));
+        if (Denied(role, studyId) is { } denied) return denied;
 
         var hours = request.LeaseHours ?? study!.LeaseHours;
         var now = time.GetUtcNow();
-        var expires = now.AddHours(hours);
-        var ids = db.Provider == StorageProvider.Postgres
-            ? await ClaimOnPostgresAsync(caller, studyId, request.Count, hours, now, expires, cancellationToken)
-            : await ClaimOnSqliteAsync(caller, studyId, request.Count, hours, now, expires, cancellationToken);
-        if (ids.Count > 0) changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, await db.ResultSetVersionAsync(studyId, cancellationToken)));
+        var ids = await ClaimOnSqliteAsync(caller, studyId, request.Count, hours, now, now.AddHours(hours), cancellationToken);
+        if (ids.Count > 0) changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, study!.ResultSetVersion)); // claims do not bump it
         return Outcome<IReadOnlyList<RunDto>>.Ok(await queries.ListByIdsAsync(studyId, ids, cancellationToken));
     }
 
-    /// <summary>One statement: lock the lowest-numbered open runs no other transaction holds, claim them, and
-    /// write one audit event per run. Runs locked by a concurrent claim are skipped, not waited for.</summary>
-    private async Task<List<int>> ClaimOnPostgresAsync(Caller caller, int studyId, int count, double hours,
-        DateTimeOffset now, DateTimeOffset expires, CancellationToken cancellationToken)
+    private static Outcome<IReadOnlyList<RunDto>>? Denied(StudyRole? role, int studyId) => role switch
+    {
+        null => Outcome<IReadOnlyList<RunDto>>.NotFound(StudyAccess.NotVisible(studyId)),
+        < StudyRole.Analyst => Outcome<IReadOnlyList<RunDto>>.Forbidden(StudyAccess.Refusal(role.Value, StudyRole.Analyst, "claim runs")),
+        _ => null,
+    };
+
+    /// <summary>
+    /// One statement, one round trip: the caller's role and the study's lease length, then lock the
+    /// lowest-numbered open runs no other transaction holds (runs locked by a concurrent claim are skipped, not
+    /// waited for), claim them and write one audit event per run. It answers one row per claimed run, or one row
+    /// without a run when the role does not allow it or no run is open, or no row when there is no such study.
+    /// </summary>
+    private async Task<Outcome<IReadOnlyList<RunDto>>> ClaimOnPostgresAsync(Caller caller, int studyId, ClaimRequest request, CancellationToken cancellationToken)
     {
         const string sql = """
-            WITH picked AS (
-                SELECT id FROM runs
-                WHERE study_id = @study AND state = 'open'
-                ORDER BY number
+            WITH access AS (
+                SELECT s.id, s.lease_hours, s.result_set_version,
+                       CASE WHEN @admin THEN 'lead'
+                            ELSE (SELECT m.role FROM study_members m WHERE m.study_id = s.id AND m.user_id = @user) END AS role
+                FROM studies s WHERE s.id = @study),
+            lease AS (
+                SELECT COALESCE(@hours, a.lease_hours) AS hours FROM access a WHERE a.role IN ('analyst', 'lead')),
+            picked AS (
+                SELECT r.id FROM runs r
+                WHERE r.study_id = @study AND r.state = 'open' AND EXISTS (SELECT 1 FROM lease)
+                ORDER BY r.number
                 LIMIT @count
-                FOR UPDATE SKIP LOCKED),
+                FOR UPDATE OF r SKIP LOCKED),
             claimed AS (
                 UPDATE runs r
-                SET state = 'claimed', assignee_id = @user, claimed_at = @now, lease_expires_at = @expires,
-                    lease_hours = @hours, version = r.version + 1, updated_at = @now
+                SET state = 'claimed', assignee_id = @user, claimed_at = @now,
+                    lease_expires_at = @now + make_interval(secs => (SELECT hours FROM lease) * 3600),
+                    lease_hours = (SELECT hours FROM lease), version = r.version + 1, updated_at = @now
                 FROM picked
                 WHERE r.id = picked.id AND r.state = 'open'
-                RETURNING r.id, r.number),
+                RETURNING r.id, r.number, r.wave_id, r.factor_values, r.lease_expires_at),
             audited AS (
                 INSERT INTO audit_events (study_id, run_id, actor_id, api_token_id, source, kind, detail, at)
-                SELECT @study, c.id, @user, @token, @source, 'run.claimed', @who || ' claimed run ' || c.number || @lease, @now
+                SELECT @study, c.id, @user, @token, @source, 'run.claimed',
+                       @who || ' claimed run ' || c.number || ' (lease ' || trim_scale(round((SELECT hours FROM lease)::numeric, 2)) || ' h)', @now
                 FROM claimed c)
-            SELECT id FROM claimed
+            SELECT a.role, a.result_set_version, c.id, c.number, w.number, c.factor_values, c.lease_expires_at
+            FROM access a
+            LEFT JOIN claimed c ON true
+            LEFT JOIN waves w ON w.id = c.wave_id
+            ORDER BY c.number
             """;
+        var now = time.GetUtcNow().ToUniversalTime();
         var connection = (NpgsqlConnection)db.Database.GetDbConnection();
         await db.Database.OpenConnectionAsync(cancellationToken);
+        StudyRole? role = null;
+        var found = false;
+        long version = 0;
+        var rows = new List<(int Id, int Number, int Wave, double[] Factors, DateTimeOffset Lease)>(request.Count);
         try
         {
             await using var command = new NpgsqlCommand(sql, connection);
             command.Parameters.AddWithValue("study", studyId);
-            command.Parameters.AddWithValue("count", count);
+            command.Parameters.AddWithValue("count", request.Count);
             command.Parameters.AddWithValue("user", caller.UserId);
-            command.Parameters.AddWithValue("now", now.ToUniversalTime());
-            command.Parameters.AddWithValue("expires", expires.ToUniversalTime());
-            command.Parameters.AddWithValue("hours", hours);
-            command.Parameters.AddWithValue("token", (object?)caller.ApiTokenId ?? DBNull.Value);
+            command.Parameters.AddWithValue("admin", caller.IsAdmin);
+            command.Parameters.AddWithValue("now", now);
+            command.Parameters.Add(new NpgsqlParameter("hours", NpgsqlTypes.NpgsqlDbType.Double) { Value = (object?)request.LeaseHours ?? DBNull.Value });
+            command.Parameters.Add(new NpgsqlParameter("token", NpgsqlTypes.NpgsqlDbType.Integer) { Value = (object?)caller.ApiTokenId ?? DBNull.Value });
             command.Parameters.AddWithValue("source", caller.Source);
             command.Parameters.AddWithValue("who", caller.UserName);
-            command.Parameters.AddWithValue("lease", LeaseText(hours));
-            var ids = new List<int>(count);
             await using var reader = await command.ExecuteReaderAsync(cancellationToken);
-            while (await reader.ReadAsync(cancellationToken)) ids.Add(reader.GetInt32(0));
-            return ids;
+            while (await reader.ReadAsync(cancellationToken))
+            {
+                found = true;
+                role = reader.IsDBNull(0) ? null : Data.CamelCaseEnumConverter<StudyRole>.FromName(reader.GetString(0));
+                version = reader.GetInt64(1);
+                if (!reader.IsDBNull(2))
+                    rows.Add((reader.GetInt32(2), reader.GetInt32(3), reader.GetInt32(4), reader.GetFieldValue<double[]>(5), reader.GetFieldValue<DateTimeOffset>(6)));
+            }
         }
         finally
         {
             await db.Database.CloseConnectionAsync();
         }
+        if (Denied(found ? role : null, studyId) is { } denied) return denied;
+        if (rows.Count == 0) return Outcome<IReadOnlyList<RunDto>>.Ok([]);
+        changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, version)); // claims do not bump it
+        var space = await factorSpaces.GetAsync(db, studyId, cancellationToken);
+        return Outcome<IReadOnlyList<RunDto>>.Ok([.. rows.Select(r =>
+            new RunDto(r.Id, r.Number, r.Wave, RunState.Claimed, space.ToValues(r.Factors), caller.UserName, r.Lease))]);
     }
 
     /// <summary>SQLite's transactions take the write lock at BEGIN (BEGIN IMMEDIATE), so the pick and the

@@ -23,5 +23,6 @@ public static class BenchmarkRegistry
     /// <summary>Each area adds its line here.</summary>
     private static void RegisterAll()
     {
+        ClaimsBenchmark.Register();
     }
 }

@@ -584,15 +584,17 @@ namespace Runfold.Server.Data.Migrations.Postgres
                     b.HasIndex("WaveId")
                         .HasDatabaseName("ix_runs_wave_id");
 
-                    b.HasIndex("State", "LeaseExpiresAt")
-                        .HasDatabaseName("ix_runs_state_lease_expires_at");
-
                     b.HasIndex("StudyId", "Number")
                         .IsUnique()
                         .HasDatabaseName("ix_runs_study_id_number");
 
-                    b.HasIndex("StudyId", "State", "Number")
-                        .HasDatabaseName("ix_runs_study_id_state_number");
+                    b.HasIndex(new[] { "LeaseExpiresAt" }, "LapseQueue")
+                        .HasDatabaseName("ix_runs_claimed_lease")
+                        .HasFilter("state = 'claimed'");
+
+                    b.HasIndex(new[] { "StudyId", "Number" }, "OpenQueue")
+                        .HasDatabaseName("ix_runs_open_queue")
+                        .HasFilter("state = 'open'");
 
                     b.ToTable("runs", (string)null);
                 });
