@@ -3,6 +3,7 @@ using System.Text.RegularExpressions;
 using Microsoft.EntityFrameworkCore;
 using Runfold.Server.Auth;
 using Runfold.Server.Data;
+using Runfold.Server.Runs;
 using Runfold.Server.Studies;
 using Runfold.Shared.Studies;
 
@@ -141,13 +142,7 @@ public sealed partial class BulkResults(RunfoldDbContext db, TimeProvider time, 
         foreach (var (run, result) in accepted)
         {
             var updated = await db.Runs.Where(r => r.Id == run.Id && r.Version == run.Version)
-                .ExecuteUpdateAsync(s => s
-                    .SetProperty(r => r.State, result.State)
-                    .SetProperty(r => r.RevisionCount, r => r.RevisionCount + 1)
-                    .SetProperty(r => r.CurrentRevision, r => r.RevisionCount + 1)
-                    .SetProperty(r => r.LeaseExpiresAt, (DateTimeOffset?)null)
-                    .SetProperty(r => r.Version, r => r.Version + 1)
-                    .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+                .StoreRevisionAsync(result.State, now, cancellationToken);
             if (updated != 1)
             {
                 await transaction.RollbackAsync(cancellationToken);

@@ -69,13 +69,7 @@ public sealed class ResultService(RunfoldDbContext db, TimeProvider time, IStudy
         {
             await using var transaction = await db.Database.BeginTransactionAsync(cancellationToken);
             var updated = await db.Runs.Where(r => r.Id == runId && r.Version == run.Version)
-                .ExecuteUpdateAsync(s => s
-                    .SetProperty(r => r.State, result.State)
-                    .SetProperty(r => r.RevisionCount, r => r.RevisionCount + 1)
-                    .SetProperty(r => r.CurrentRevision, r => r.RevisionCount + 1)
-                    .SetProperty(r => r.LeaseExpiresAt, (DateTimeOffset?)null)
-                    .SetProperty(r => r.Version, r => r.Version + 1)
-                    .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+                .StoreRevisionAsync(result.State, now, cancellationToken);
             if (updated != 1)
             {
                 await transaction.RollbackAsync(cancellationToken);
@@ -143,15 +137,7 @@ public sealed class ResultService(RunfoldDbContext db, TimeProvider time, IStudy
         var now = time.GetUtcNow();
         await using var transaction = await db.Database.BeginTransactionAsync(cancellationToken);
         var updated = await db.Runs.Where(r => r.Id == runId && r.Version == run.Version && r.State == RunState.Failed)
-            .ExecuteUpdateAsync(s => s
-                .SetProperty(r => r.State, RunState.Open)
-                .SetProperty(r => r.AssigneeId, (Guid?)null)
-                .SetProperty(r => r.ClaimedAt, (DateTimeOffset?)null)
-                .SetProperty(r => r.LeaseExpiresAt, (DateTimeOffset?)null)
-                .SetProperty(r => r.LeaseHours, (double?)null)
-                .SetProperty(r => r.CurrentRevision, 0)
-                .SetProperty(r => r.Version, r => r.Version + 1)
-                .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+            .ReturnToOpenAsync(now, cancellationToken, dropCurrentResult: true);
         if (updated != 1) return Outcome<RunDto>.Conflict($"Run {run.Number} changed while it was being reopened; look at it again.");
         db.AuditEvents.Add(Audit.Event(caller, run.StudyId, runId, "run.reopened", $"{caller.UserName} reopened failed run {run.Number}", now));
         await db.SaveChangesAsync(cancellationToken);

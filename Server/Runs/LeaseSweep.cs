@@ -35,14 +35,7 @@ public sealed class LeaseSweeper(IDbContextFactory<RunfoldDbContext> contexts, T
             {
                 var updated = await db.Runs
                     .Where(r => r.Id == run.Id && r.Version == run.Version && r.State == RunState.Claimed && r.LeaseExpiresAt < now)
-                    .ExecuteUpdateAsync(s => s
-                        .SetProperty(r => r.State, RunState.Open)
-                        .SetProperty(r => r.AssigneeId, (Guid?)null)
-                        .SetProperty(r => r.ClaimedAt, (DateTimeOffset?)null)
-                        .SetProperty(r => r.LeaseExpiresAt, (DateTimeOffset?)null)
-                        .SetProperty(r => r.LeaseHours, (double?)null)
-                        .SetProperty(r => r.Version, r => r.Version + 1)
-                        .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+                    .ReturnToOpenAsync(now, cancellationToken);
                 if (updated != 1) continue; // heartbeat, result or another sweep got there first
                 db.AuditEvents.Add(Audit.Event(null, run.StudyId, run.Id, "lease.lapsed",
                     $"The lease of {run.Holder ?? "a former member"} on run {run.Number} lapsed at {run.LeaseExpiresAt:u}; the run is open again", now));

@@ -42,7 +42,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
 
         var hours = request.LeaseHours ?? study!.LeaseHours;
         var now = time.GetUtcNow();
-        var ids = await ClaimOnSqliteAsync(caller, studyId, request.Count, hours, now, now.AddHours(hours), cancellationToken);
+        var ids = await ClaimOnSqliteAsync(caller, studyId, request.Count, hours, now, cancellationToken);
         if (ids.Count > 0) changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, study!.ResultSetVersion)); // claims do not bump it
         return Outcome<IReadOnlyList<RunDto>>.Ok(await queries.ListByIdsAsync(studyId, ids, cancellationToken));
     }
@@ -139,21 +139,14 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
     /// <summary>SQLite's transactions take the write lock at BEGIN (BEGIN IMMEDIATE), so the pick and the
     /// conditional update cannot interleave with another claim.</summary>
     private async Task<List<int>> ClaimOnSqliteAsync(Caller caller, int studyId, int count, double hours,
-        DateTimeOffset now, DateTimeOffset expires, CancellationToken cancellationToken)
+        DateTimeOffset now, CancellationToken cancellationToken)
     {
         await using var transaction = await db.Database.BeginTransactionAsync(cancellationToken);
         var picked = await db.Runs.Where(r => r.StudyId == studyId && r.State == RunState.Open)
             .OrderBy(r => r.Number).Take(count).Select(r => new { r.Id, r.Number }).ToListAsync(cancellationToken);
         var ids = picked.Select(p => p.Id).ToList();
         var taken = await db.Runs.Where(r => ids.Contains(r.Id) && r.State == RunState.Open)
-            .ExecuteUpdateAsync(s => s
-                .SetProperty(r => r.State, RunState.Claimed)
-                .SetProperty(r => r.AssigneeId, caller.UserId)
-                .SetProperty(r => r.ClaimedAt, now)
-                .SetProperty(r => r.LeaseExpiresAt, expires)
-                .SetProperty(r => r.LeaseHours, hours)
-                .SetProperty(r => r.Version, r => r.Version + 1)
-                .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+            .ClaimForAsync(caller.UserId, hours, now, cancellationToken);
         if (taken != ids.Count) throw new InvalidOperationException("A claim changed under the SQLite write lock.");
         db.AuditEvents.AddRange(picked.Select(p => Audit.Event(caller, studyId, p.Id, "run.claimed",
             $"{caller.UserName} claimed run {p.Number}{LeaseText(hours)}", now)));
@@ -211,14 +204,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
         var now = time.GetUtcNow();
         await using var transaction = await db.Database.BeginTransactionAsync(cancellationToken);
         var updated = await db.Runs.Where(r => r.Id == runId && r.Version == run.Version && r.State == RunState.Claimed)
-            .ExecuteUpdateAsync(s => s
-                .SetProperty(r => r.State, RunState.Open)
-                .SetProperty(r => r.AssigneeId, (Guid?)null)
-                .SetProperty(r => r.ClaimedAt, (DateTimeOffset?)null)
-                .SetProperty(r => r.LeaseExpiresAt, (DateTimeOffset?)null)
-                .SetProperty(r => r.LeaseHours, (double?)null)
-                .SetProperty(r => r.Version, r => r.Version + 1)
-                .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+            .ReturnToOpenAsync(now, cancellationToken);
         if (updated != 1)
             return Outcome<RunDto>.Conflict($"Run {run.Number} changed while it was being released; look at it again.");
         db.AuditEvents.Add(Audit.Event(caller, run.StudyId, runId, "run.released",
@@ -255,7 +241,6 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
 
         var hours = request.LeaseHours ?? await db.Studies.Where(s => s.Id == studyId).Select(s => s.LeaseHours).FirstAsync(cancellationToken);
         var now = time.GetUtcNow();
-        var expires = now.AddHours(hours);
         await using var transaction = await db.Database.BeginTransactionAsync(cancellationToken);
         var runs = await db.Runs.Where(r => r.StudyId == studyId && numbers.Contains(r.Number))
             .Select(r => new { r.Id, r.Number, r.State }).ToListAsync(cancellationToken);
@@ -264,14 +249,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
             return Outcome<IReadOnlyList<RunDto>>.Invalid(ValidationErrors.Single("runs", $"This study has no run {string.Join(", ", missing)}; nothing was assigned."));
         var ids = runs.Select(r => r.Id).ToList();
         var assigned = await db.Runs.Where(r => ids.Contains(r.Id) && r.State == RunState.Open)
-            .ExecuteUpdateAsync(s => s
-                .SetProperty(r => r.State, RunState.Claimed)
-                .SetProperty(r => r.AssigneeId, member.UserId)
-                .SetProperty(r => r.ClaimedAt, now)
-                .SetProperty(r => r.LeaseExpiresAt, expires)
-                .SetProperty(r => r.LeaseHours, hours)
-                .SetProperty(r => r.Version, r => r.Version + 1)
-                .SetProperty(r => r.UpdatedAt, now), cancellationToken);
+            .ClaimForAsync(member.UserId, hours, now, cancellationToken);
         if (assigned != ids.Count)
         {
             await transaction.RollbackAsync(cancellationToken);
