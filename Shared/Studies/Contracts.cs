@@ -62,7 +62,8 @@ public sealed record StudySummary(int Id, string Name, RunCounts Counts, DateTim
 
 public sealed record StudyMemberDto(Guid UserId, string UserName, string? DisplayName, StudyRole Role);
 
-/// <summary>A study with its definition. <see cref="Runs"/> is filled only in the answer to its creation.</summary>
+/// <summary>A study with its definition. <see cref="Runs"/> is filled only in the answer to its creation;
+/// <see cref="YourRole"/> is the asking person's role on the study (the admin is lead everywhere).</summary>
 public sealed record StudyDetail(
     int Id,
     string Name,
@@ -74,7 +75,8 @@ public sealed record StudyDetail(
     IReadOnlyList<StudyMemberDto> Members,
     double LeaseHours,
     DateTimeOffset CreatedAt,
-    IReadOnlyList<RunDto>? Runs = null);
+    IReadOnlyList<RunDto>? Runs = null,
+    StudyRole? YourRole = null);
 
 public sealed record RunResultDto(IReadOnlyDictionary<string, double> Values, int Revision, string? Note);
 

@@ -24,5 +24,6 @@ public static class BenchmarkRegistry
     private static void RegisterAll()
     {
         DoeBenchmarks.Register();
+        ClaimsBenchmark.Register();
     }
 }
