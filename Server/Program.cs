@@ -4,6 +4,7 @@ using Runfold.Server.Data;
 using Runfold.Server.Hosting;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Scalar.AspNetCore;
 
 if (CommandLine.IsCommand(args)) return await CommandLine.RunAsync(args);
@@ -23,6 +24,7 @@ builder.Services.AddRunfoldHealth();
 builder.Services.AddStudies();
 builder.Services.AddRuns();
 builder.Services.AddRunfoldPages();
+builder.AddRunfoldTelemetry();
 
 var app = builder.Build();
 
@@ -36,6 +38,7 @@ app.MapStaticAssets();
 app.MapOpenApi();
 app.MapScalarApiReference("/api-docs", o => o.WithTitle("Runfold API"));
 app.MapHealthApi();
+app.MapRunfoldTelemetry();
 app.MapSignInApi();
 app.MapStudiesApi();
 app.MapRunsApi();

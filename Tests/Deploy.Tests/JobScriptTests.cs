@@ -49,18 +49,14 @@ public sealed class JobScriptTests
     [Fact]
     public async Task A_failing_solver_is_recorded_as_failed_with_its_exit_code_and_the_end_of_its_log()
     {
-        await using var server = await JobServer.StartAsync();
-        var study = await server.CreateStudyAsync();
         const string failingSolver = """
             for i in $(seq 1 30); do echo "iteration $i residual 1e-$i"; done
             echo "floating point exception: solution diverged" >&2
             exit 7
             """;
-        using var job = JobScript.Start(server.Address, study, failingSolver);
+        var (exitCode, run, output) = await RunJobAsync(failingSolver);
 
-        Assert.True(await job.WaitAsync() == 0, job.ToString()); // the outcome was recorded
-
-        var run = (await server.RunsAsync(study)).Single(r => r.Number == 1);
+        Assert.True(exitCode == 0, output); // the outcome was recorded
         Assert.Equal(RunState.Failed, run.State);
         var note = run.Result!.Note!;
         Assert.Contains("exited with code 7", note, StringComparison.Ordinal);
@@ -113,16 +109,12 @@ public sealed class JobScriptTests
     [Fact]
     public async Task Results_the_server_refuses_are_recorded_as_failed_with_the_server_s_reason()
     {
-        await using var server = await JobServer.StartAsync();
-        var study = await server.CreateStudyAsync();
         const string solverWithWrongName = """
             printf 'thermal_resistence = 0.3\npressure_drop = 12\nmass = 400\n' > "$RUNFOLD_RESULTS"
             """;
-        using var job = JobScript.Start(server.Address, study, solverWithWrongName);
+        var (exitCode, run, output) = await RunJobAsync(solverWithWrongName);
 
-        Assert.Equal(4, await job.WaitAsync());
-
-        var run = (await server.RunsAsync(study)).Single(r => r.Number == 1);
+        Assert.True(exitCode == 4, output);
         Assert.Equal(RunState.Failed, run.State);
         Assert.Contains("refused", run.Result!.Note!, StringComparison.Ordinal);
         Assert.Contains("thermal_resistence", run.Result.Note!, StringComparison.Ordinal);
@@ -131,15 +123,11 @@ public sealed class JobScriptTests
     [Fact]
     public async Task A_results_file_with_a_value_that_is_not_a_number_fails_the_run_and_names_it()
     {
-        await using var server = await JobServer.StartAsync();
-        var study = await server.CreateStudyAsync();
-        using var job = JobScript.Start(server.Address, study, """
+        var (exitCode, run, output) = await RunJobAsync("""
             printf 'thermal_resistance = 0.3\npressure_drop = n/a\nmass = 400\n' > "$RUNFOLD_RESULTS"
             """);
 
-        Assert.True(await job.WaitAsync() == 0, job.ToString());
-
-        var run = (await server.RunsAsync(study)).Single(r => r.Number == 1);
+        Assert.True(exitCode == 0, output);
         Assert.Equal(RunState.Failed, run.State);
         Assert.Contains("the value of pressure_drop is not a number: 'n/a'", run.Result!.Note!, StringComparison.Ordinal);
     }
@@ -147,15 +135,11 @@ public sealed class JobScriptTests
     [Fact]
     public async Task A_results_file_in_JSON_is_sent_as_it_is()
     {
-        await using var server = await JobServer.StartAsync();
-        var study = await server.CreateStudyAsync();
-        using var job = JobScript.Start(server.Address, study, """
+        var (exitCode, run, output) = await RunJobAsync("""
             echo '{"thermal_resistance": 0.21, "pressure_drop": 17.5, "mass": 640}' > "$RUNFOLD_RESULTS"
             """);
 
-        Assert.True(await job.WaitAsync() == 0, job.ToString());
-
-        var run = (await server.RunsAsync(study)).Single(r => r.Number == 1);
+        Assert.True(exitCode == 0, output);
         Assert.Equal(RunState.Done, run.State);
         Assert.Equal(17.5, run.Result!.Values["pressure_drop"]);
     }
@@ -199,6 +183,17 @@ public sealed class JobScriptTests
         Assert.Equal(2, await job.WaitAsync());
         AssertSaid(job, "refused the token (401)");
         Assert.All(await server.RunsAsync(study), r => Assert.Equal(RunState.Open, r.State));
+    }
+
+    /// <summary>One job on a fresh server and study: the exit code, run 1 as the server then holds it, and what the
+    /// job printed.</summary>
+    private static async Task<(int ExitCode, RunDto Run, string Output)> RunJobAsync(string solver, IDictionary<string, string>? environment = null)
+    {
+        await using var server = await JobServer.StartAsync();
+        var study = await server.CreateStudyAsync();
+        using var job = JobScript.Start(server.Address, study, solver, environment);
+        var exitCode = await job.WaitAsync();
+        return (exitCode, (await server.RunsAsync(study)).Single(r => r.Number == 1), job.ToString());
     }
 
     /// <summary>The job told its log this (with the whole output in the failure message).</summary>
