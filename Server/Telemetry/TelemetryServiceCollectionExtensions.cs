@@ -25,7 +25,7 @@ public static class TelemetryServiceCollectionExtensions
         {
             o.Protocol = protocol;
             // With http/protobuf each signal has its own path under the base address (the OTLP specification).
-            o.Endpoint = protocol == OtlpExportProtocol.HttpProtobuf ? new Uri(endpoint!, "/v1/" + signal) : endpoint!;
+            o.Endpoint = protocol == OtlpExportProtocol.HttpProtobuf ? new Uri(endpoint!.ToString().TrimEnd('/') + "/v1/" + signal) : endpoint!;
         }
 
         var telemetry = builder.Services.AddOpenTelemetry()
