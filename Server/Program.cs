@@ -1,7 +1,9 @@
 using Runfold.Client;
 using Runfold.Server.Auth;
 using Runfold.Server.Data;
+using Runfold.Server.Designs;
 using Runfold.Server.Hosting;
+using Runfold.Server.Results;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
 using Runfold.Server.Telemetry;
@@ -19,10 +21,13 @@ builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddHostedService<StartupTasks>();
 builder.Services.AddRunfoldHttp();
 builder.Services.AddRunfoldStorage(settings);
-builder.Services.AddRunfoldAuth();
+builder.Services.AddRunfoldAuth(settings);
+builder.Services.AddRunfoldRateLimits(settings);
 builder.Services.AddRunfoldHealth();
 builder.Services.AddStudies();
 builder.Services.AddRuns();
+builder.Services.AddDesigns();
+builder.Services.AddResults();
 builder.Services.AddRunfoldPages();
 builder.AddRunfoldTelemetry();
 
@@ -30,6 +35,8 @@ var app = builder.Build();
 
 app.UseExceptionHandler();
 app.UseStatusCodePages();
+app.UseRunfoldSecurityHeaders();
+app.UseRateLimiter();
 app.UseAuthentication();
 app.UseAuthorization();
 app.UseAntiforgery();
@@ -42,6 +49,9 @@ app.MapRunfoldTelemetry();
 app.MapSignInApi();
 app.MapStudiesApi();
 app.MapRunsApi();
+app.MapDesignsApi();
+app.MapResultsApi();
+app.MapAccountApi();
 app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
 
 await app.RunAsync();

@@ -19,6 +19,13 @@ public static class Formats
         return text.Contains('.', StringComparison.Ordinal) ? text.TrimEnd('0').TrimEnd('.') : text;
     }
 
+    /// <summary>An instant as UTC, to the minute: "2026-11-30 08:15 UTC".</summary>
+    public static string Instant(DateTimeOffset at) => at.UtcDateTime.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture) + " UTC";
+
+    public static string Role(StudyRole role) => role.ToString().ToLowerInvariant();
+
+    public static string State(RunState state) => state.ToString().ToLowerInvariant();
+
     public static string WithUnit(double value, string? unit) => unit is null ? Number(value) : $"{Number(value)} {unit}";
 
     public static string Value(FactorValue value) => value.Level ?? Number(value.Number);

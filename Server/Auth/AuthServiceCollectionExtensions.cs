@@ -4,6 +4,8 @@ using Microsoft.AspNetCore.Identity;
 using Microsoft.Extensions.Options;
 using Runfold.Server.Data;
 using Runfold.Server.Data.Entities;
+using Runfold.Server.Hosting;
+using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Auth;
 
@@ -13,8 +15,9 @@ public static class AuthServiceCollectionExtensions
     /// sent, else the sign-in cookie; a request to /api without either is challenged as an API call (401).</summary>
     public const string SelectorScheme = "Runfold";
 
-    public static IServiceCollection AddRunfoldAuth(this IServiceCollection services)
+    public static IServiceCollection AddRunfoldAuth(this IServiceCollection services, RunfoldSettings settings)
     {
+        ArgumentNullException.ThrowIfNull(settings);
         services.AddIdentityCore<RunfoldUser>(o =>
             {
                 o.User.RequireUniqueEmail = false;
@@ -27,14 +30,16 @@ public static class AuthServiceCollectionExtensions
             .AddClaimsPrincipalFactory<RunfoldClaimsPrincipalFactory>()
             .AddDefaultTokenProviders();
 
-        services.AddAuthentication(o =>
+        var authentication = services.AddAuthentication(o =>
             {
                 o.DefaultScheme = SelectorScheme;
                 o.DefaultChallengeScheme = SelectorScheme;
             })
             .AddPolicyScheme(SelectorScheme, "API token or sign-in cookie", o => o.ForwardDefaultSelector = SelectScheme)
-            .AddScheme<AuthenticationSchemeOptions, ApiTokenAuthenticationHandler>(ApiTokenAuthenticationHandler.SchemeName, null)
-            .AddIdentityCookies();
+            .AddScheme<AuthenticationSchemeOptions, ApiTokenAuthenticationHandler>(ApiTokenAuthenticationHandler.SchemeName, null);
+        authentication.AddIdentityCookies();
+        if (settings.SingleSignOn is { } sso) SingleSignOn.Configure(authentication, sso);
+        services.AddSingleton(new SignInChoices(Password: true, SingleSignOn: settings.SingleSignOn?.Name));
 
         services.ConfigureApplicationCookie(o =>
         {
@@ -51,6 +56,10 @@ public static class AuthServiceCollectionExtensions
         services.AddCascadingAuthenticationState();
         services.AddScoped<SignInLinks>();
         services.AddScoped<AdminBootstrap>();
+        services.AddScoped<AccountService>();
+        services.AddScoped<Invitations>();
+        services.AddScoped<IInvitationDirectory>(sp => sp.GetRequiredService<Invitations>());
+        services.AddScoped<SingleSignOn>();
         return services;
     }
 

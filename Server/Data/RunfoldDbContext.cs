@@ -21,6 +21,8 @@ public abstract class RunfoldDbContext(DbContextOptions options)
 
     public DbSet<SignInLink> SignInLinks => Set<SignInLink>();
 
+    public DbSet<Invitation> Invitations => Set<Invitation>();
+
     public DbSet<Study> Studies => Set<Study>();
 
     public DbSet<StudyFactor> StudyFactors => Set<StudyFactor>();

@@ -14,7 +14,10 @@ public static class StorageServiceCollectionExtensions
         ArgumentNullException.ThrowIfNull(settings);
         if (settings.PostgresConnectionString is { } postgres)
         {
-            var dataSource = new NpgsqlDataSourceBuilder(postgres) { Name = "runfold" }.Build();
+            var builder = new NpgsqlDataSourceBuilder(postgres) { Name = "runfold" };
+            // The claim, heartbeat and result statements repeat on every request: prepare them once per connection.
+            if (builder.ConnectionStringBuilder.MaxAutoPrepare == 0) builder.ConnectionStringBuilder.MaxAutoPrepare = 32;
+            var dataSource = builder.Build();
             services.AddSingleton(dataSource);
             services.AddPooledDbContextFactory<PostgresRunfoldDbContext>(o => ConfigurePostgres(o, dataSource));
             services.AddSingleton<IDbContextFactory<RunfoldDbContext>, ContextFactory<PostgresRunfoldDbContext>>();

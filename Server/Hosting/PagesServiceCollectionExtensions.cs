@@ -1,3 +1,5 @@
+using Runfold.Server.Auth;
+using Runfold.Server.Runs;
 using Runfold.Server.Studies;
 using Runfold.Shared.Studies;
 
@@ -10,6 +12,11 @@ public static class PagesServiceCollectionExtensions
     {
         services.AddRazorComponents().AddInteractiveServerComponents();
         services.AddScoped<IStudyCatalog, StudyCatalog>();
+        services.AddScoped<PageCalls>();
+        services.AddScoped<IRunBoard, RunBoard>();
+        services.AddScoped<IActivityFeed, ActivityPages>();
+        services.AddScoped<IStudyMembership, MembershipPages>();
+        services.AddScoped<IAccountService, AccountPages>();
         return services;
     }
 }

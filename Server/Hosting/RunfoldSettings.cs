@@ -23,6 +23,19 @@ public sealed record RunfoldSettings
     /// <summary>RUNFOLD_MAX_RUNS: the largest design the server generates (default 10,000).</summary>
     public int MaxRuns { get; init; } = 10_000;
 
+    /// <summary>RUNFOLD_MAX_UPLOAD_MB: the largest bulk results file (default 10 MB).</summary>
+    public long MaxUploadBytes { get; init; } = 10L * 1024 * 1024;
+
+    /// <summary>RUNFOLD_SIGNIN_PER_MINUTE: sign-in attempts per client address and minute (default 10).</summary>
+    public int SignInPerMinute { get; init; } = 10;
+
+    /// <summary>RUNFOLD_TOKEN_PER_MINUTE: API requests per token and minute (default 1,200, in bursts of as many).</summary>
+    public int TokenRequestsPerMinute { get; init; } = 1200;
+
+    /// <summary>RUNFOLD_OIDC_AUTHORITY, _CLIENT_ID, _CLIENT_SECRET, _NAME: the company's single sign-on
+    /// (OpenID Connect); off unless the authority and client id are set.</summary>
+    public SingleSignOnSettings? SingleSignOn { get; init; }
+
     public StorageProvider Provider => PostgresConnectionString is null ? StorageProvider.Sqlite : StorageProvider.Postgres;
 
     public string SqlitePath => Path.GetFullPath(Path.Combine(DataDirectory, "runfold.db"));
@@ -32,18 +45,35 @@ public sealed record RunfoldSettings
         ArgumentNullException.ThrowIfNull(configuration);
         var postgres = NullIfBlank(configuration["RUNFOLD_POSTGRES"]);
         var demo = NullIfBlank(configuration["RUNFOLD_DEMO"]);
-        var maxRuns = NullIfBlank(configuration["RUNFOLD_MAX_RUNS"]);
+        var authority = NullIfBlank(configuration["RUNFOLD_OIDC_AUTHORITY"]);
+        var clientId = NullIfBlank(configuration["RUNFOLD_OIDC_CLIENT_ID"]);
         return new RunfoldSettings
         {
             PostgresConnectionString = postgres,
             DataDirectory = NullIfBlank(configuration["RUNFOLD_DATA"]) ?? "runfold-data",
             SeedDemo = demo is null ? postgres is null : demo is "1" or "true" or "yes" or "on",
             AdminToken = NullIfBlank(configuration["RUNFOLD_ADMIN_TOKEN"]),
-            MaxRuns = maxRuns is null ? 10_000 : int.TryParse(maxRuns, out var m) && m > 0
-                ? m
-                : throw new InvalidOperationException($"RUNFOLD_MAX_RUNS must be a positive whole number; it is '{maxRuns}'."),
+            MaxRuns = PositiveInt(configuration, "RUNFOLD_MAX_RUNS", 10_000),
+            MaxUploadBytes = PositiveInt(configuration, "RUNFOLD_MAX_UPLOAD_MB", 10) * 1024L * 1024,
+            SignInPerMinute = PositiveInt(configuration, "RUNFOLD_SIGNIN_PER_MINUTE", 10),
+            TokenRequestsPerMinute = PositiveInt(configuration, "RUNFOLD_TOKEN_PER_MINUTE", 1200),
+            SingleSignOn = authority is null || clientId is null ? null : new SingleSignOnSettings(
+                authority, clientId, NullIfBlank(configuration["RUNFOLD_OIDC_CLIENT_SECRET"]),
+                NullIfBlank(configuration["RUNFOLD_OIDC_NAME"]) ?? "company sign-on"),
         };
+    }
+
+    private static int PositiveInt(IConfiguration configuration, string key, int fallback)
+    {
+        var text = NullIfBlank(configuration[key]);
+        if (text is null) return fallback;
+        return int.TryParse(text, out var value) && value > 0
+            ? value
+            : throw new InvalidOperationException($"{key} must be a positive whole number; it is '{text}'.");
     }
 
     private static string? NullIfBlank(string? value) => string.IsNullOrWhiteSpace(value) ? null : value.Trim();
 }
+
+/// <summary>OpenID Connect sign-in with the company's identity provider. <see cref="Name"/> labels the button.</summary>
+public sealed record SingleSignOnSettings(string Authority, string ClientId, string? ClientSecret, string Name);

@@ -17,12 +17,20 @@ public sealed class RunQueries(RunfoldDbContext db)
     }
 
     /// <summary>Without a role check: for callers that already checked it.</summary>
-    internal async Task<IReadOnlyList<RunDto>> ListAsync(int studyId, RunState? state, CancellationToken cancellationToken)
+    internal Task<IReadOnlyList<RunDto>> ListAsync(int studyId, RunState? state, CancellationToken cancellationToken) =>
+        ListAsync(studyId, state, null, cancellationToken);
+
+    /// <summary>The given runs of a study (no role check), in run-number order.</summary>
+    internal Task<IReadOnlyList<RunDto>> ListByIdsAsync(int studyId, IReadOnlyCollection<int> runIds, CancellationToken cancellationToken) =>
+        runIds.Count == 0 ? Task.FromResult<IReadOnlyList<RunDto>>([]) : ListAsync(studyId, null, runIds, cancellationToken);
+
+    private async Task<IReadOnlyList<RunDto>> ListAsync(int studyId, RunState? state, IReadOnlyCollection<int>? runIds, CancellationToken cancellationToken)
     {
         var factors = await db.StudyFactors.AsNoTracking().Where(f => f.StudyId == studyId).ToListAsync(cancellationToken);
         var space = factors.ToFactorSpace();
         var runs = db.Runs.AsNoTracking().Where(r => r.StudyId == studyId);
         if (state is { } s) runs = runs.Where(r => r.State == s);
+        if (runIds is not null) runs = runs.Where(r => runIds.Contains(r.Id));
         var rows = await runs
             .LeftJoin(db.ResultRevisions,
                 r => new { RunId = r.Id, Revision = r.CurrentRevision },

@@ -31,9 +31,9 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
 
     public async Task<Outcome<StudyDetail>> GetAsync(Caller caller, int studyId, CancellationToken cancellationToken)
     {
-        if (await db.RoleAsync(caller, studyId, cancellationToken) is null)
+        if (await db.RoleAsync(caller, studyId, cancellationToken) is not { } role)
             return Outcome<StudyDetail>.NotFound(StudyAccess.NotVisible(studyId));
-        return Outcome<StudyDetail>.Ok(await LoadDetailAsync(studyId, cancellationToken));
+        return Outcome<StudyDetail>.Ok(await LoadDetailAsync(studyId, cancellationToken) with { YourRole = role });
     }
 
     /// <summary>Validates the definition and the design, then stores the study, its wave-1 runs, the creator's
@@ -47,7 +47,7 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
         if (!definition.IsValid) return Outcome<StudyDetail>.Invalid(definition.Errors);
         var (name, description, factors, responses) = definition.Value!;
         var design = DesignBuilder.Build(factors, request!.Design, new DesignLimits(settings.MaxRuns));
-        if (!design.IsValid) return Outcome<StudyDetail>.Unprocessable(design.Errors);
+        if (!design.IsOk) return design.As<StudyDetail>();
         var matrix = design.Value!.Matrix;
 
         var now = time.GetUtcNow();
@@ -88,7 +88,7 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
 
         var detail = await LoadDetailAsync(study.Id, cancellationToken);
         var runs = await new RunQueries(db).ListAsync(study.Id, null, cancellationToken);
-        return Outcome<StudyDetail>.Ok(detail with { Runs = runs });
+        return Outcome<StudyDetail>.Ok(detail with { Runs = runs, YourRole = StudyRole.Lead });
     }
 
     private async Task<StudyDetail> LoadDetailAsync(int studyId, CancellationToken cancellationToken)

@@ -40,5 +40,21 @@ public sealed record DesignLimits(int MaxRuns = 10_000)
     public static DesignLimits Default { get; } = new();
 }
 
-/// <summary>A generated design and what the lead should know about it.</summary>
-public sealed record GeneratedDesign(DesignMatrix Matrix, DesignMethod Method, IReadOnlyList<string> Notes);
+/// <summary>A generated design and what the lead should know about it: notes (what was built), warnings (what
+/// to look at before running it), the runs that break constraints, and the fraction or composite layout.</summary>
+public sealed record GeneratedDesign(DesignMatrix Matrix, DesignMethod Method, IReadOnlyList<string> Notes)
+{
+    public IReadOnlyList<string> Warnings { get; init; } = [];
+
+    /// <summary>The model the design is judged by (the request's, or the method's usual one).</summary>
+    public DesignModelKind Model { get; init; } = DesignModelKind.Linear;
+
+    public IReadOnlyList<ConstraintViolation> ConstraintViolations { get; init; } = [];
+
+    public FractionSummary? Fraction { get; init; }
+
+    public CompositeSummary? Composite { get; init; }
+
+    /// <summary>True when every run lies within the factor ranges (coded −1…+1).</summary>
+    public bool StaysInsideRanges => Matrix.Coded.Enumerate().All(v => Math.Abs(v) <= 1 + 1e-9);
+}

@@ -25,7 +25,11 @@ public sealed record ResponseSpec(
     string? Unit = null,
     bool Noisy = false);
 
-/// <summary>Which design generates the runs, with the knobs each method reads (others ignore the rest).</summary>
+/// <summary>Which design generates the runs, with the knobs each method reads (others ignore the rest).
+/// <see cref="Model"/> is "linear", "interactions" or "quadratic"; <see cref="Maximin"/> (Latin hypercube,
+/// default true) optimises the smallest distance between runs. Of the central composite variants only
+/// circumscribed (the default) places runs outside the factor ranges, at ±α; inscribed and faceCentered stay
+/// inside.</summary>
 public sealed record DesignSpec(
     DesignMethod Method,
     int? Runs = null,
@@ -37,7 +41,8 @@ public sealed record DesignSpec(
     int? Seed = null,
     IReadOnlyList<string>? Constraints = null,
     string? Model = null,
-    double? Alpha = null);
+    double? Alpha = null,
+    bool? Maximin = null);
 
 public sealed record CreateStudyRequest(
     string Name,
@@ -57,7 +62,8 @@ public sealed record StudySummary(int Id, string Name, RunCounts Counts, DateTim
 
 public sealed record StudyMemberDto(Guid UserId, string UserName, string? DisplayName, StudyRole Role);
 
-/// <summary>A study with its definition. <see cref="Runs"/> is filled only in the answer to its creation.</summary>
+/// <summary>A study with its definition. <see cref="Runs"/> is filled only in the answer to its creation;
+/// <see cref="YourRole"/> is the asking person's role on the study (the admin is lead everywhere).</summary>
 public sealed record StudyDetail(
     int Id,
     string Name,
@@ -69,7 +75,8 @@ public sealed record StudyDetail(
     IReadOnlyList<StudyMemberDto> Members,
     double LeaseHours,
     DateTimeOffset CreatedAt,
-    IReadOnlyList<RunDto>? Runs = null);
+    IReadOnlyList<RunDto>? Runs = null,
+    StudyRole? YourRole = null);
 
 public sealed record RunResultDto(IReadOnlyDictionary<string, double> Values, int Revision, string? Note);
 

@@ -10,6 +10,14 @@ public sealed class ValidationErrors
 
     public bool IsEmpty => _errors.Count == 0;
 
+    /// <summary>Errors with one message for one field.</summary>
+    public static ValidationErrors Single(string field, string message)
+    {
+        var errors = new ValidationErrors();
+        errors.Add(field, message);
+        return errors;
+    }
+
     public void Add(string field, string message)
     {
         if (!_errors.TryGetValue(field, out var list)) _errors[field] = list = [];

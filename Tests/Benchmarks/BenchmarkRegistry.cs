@@ -23,5 +23,7 @@ public static class BenchmarkRegistry
     /// <summary>Each area adds its line here.</summary>
     private static void RegisterAll()
     {
+        DoeBenchmarks.Register();
+        ClaimsBenchmark.Register();
     }
 }

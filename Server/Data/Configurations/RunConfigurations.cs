@@ -21,9 +21,11 @@ internal sealed class RunConfiguration : IEntityTypeConfiguration<Run>
     {
         builder.ToTable("runs");
         builder.HasIndex(r => new { r.StudyId, r.Number }).IsUnique();
-        // The claim query: the lowest-numbered open runs of a study.
-        builder.HasIndex(r => new { r.StudyId, r.State, r.Number });
+        // The claim queue: only open runs, in number order, so a claim never walks over runs already claimed.
+        builder.HasIndex(r => new { r.StudyId, r.Number }, "OpenQueue").HasFilter("state = 'open'").HasDatabaseName("ix_runs_open_queue");
         builder.HasIndex(r => r.AssigneeId);
+        // The lease sweep: claimed runs by lease end.
+        builder.HasIndex(r => r.LeaseExpiresAt, "LapseQueue").HasFilter("state = 'claimed'").HasDatabaseName("ix_runs_claimed_lease");
         builder.Property(r => r.State).HasMaxLength(16);
         builder.Property(r => r.Version).IsConcurrencyToken();
         builder.HasOne<Study>().WithMany().HasForeignKey(r => r.StudyId).OnDelete(DeleteBehavior.Cascade);
@@ -42,6 +44,7 @@ internal sealed class ResultRevisionConfiguration : IEntityTypeConfiguration<Res
         builder.HasIndex(r => new { r.RunId, r.Revision }).IsUnique();
         builder.HasIndex(r => new { r.RunId, r.IdempotencyKey }).IsUnique();
         builder.Property(r => r.IdempotencyKey).HasMaxLength(200);
+        builder.Property(r => r.RequestHash).HasMaxLength(64);
         builder.Property(r => r.State).HasMaxLength(16);
         builder.Property(r => r.Note).HasMaxLength(4000);
         builder.Property(r => r.Values).HasConversion(

@@ -36,3 +36,18 @@ internal sealed class SignInLinkConfiguration : IEntityTypeConfiguration<SignInL
         builder.HasOne<RunfoldUser>().WithMany().HasForeignKey(t => t.UserId).OnDelete(DeleteBehavior.Cascade);
     }
 }
+
+internal sealed class InvitationConfiguration : IEntityTypeConfiguration<Invitation>
+{
+    public void Configure(EntityTypeBuilder<Invitation> builder)
+    {
+        builder.ToTable("invitations");
+        builder.Property(i => i.CodeHash).HasMaxLength(64);
+        builder.Property(i => i.Note).HasMaxLength(200);
+        builder.Property(i => i.Role).HasMaxLength(16);
+        builder.HasIndex(i => i.CodeHash).IsUnique();
+        builder.HasIndex(i => i.StudyId);
+        builder.HasOne<Study>().WithMany().HasForeignKey(i => i.StudyId).OnDelete(DeleteBehavior.Cascade);
+        builder.HasOne<RunfoldUser>().WithMany().HasForeignKey(i => i.CreatedById).OnDelete(DeleteBehavior.Restrict);
+    }
+}

@@ -52,8 +52,14 @@ public sealed class Run
 
     public DateTimeOffset? LeaseExpiresAt { get; set; }
 
-    /// <summary>The revision number of the current result (0: none yet).</summary>
+    /// <summary>The lease length of the current claim; a heartbeat extends the lease by this much.</summary>
+    public double? LeaseHours { get; set; }
+
+    /// <summary>The revision number of the current result (0: none, also after a failed run is reopened).</summary>
     public int CurrentRevision { get; set; }
+
+    /// <summary>How many revisions the run has; the next upload becomes revision <c>RevisionCount + 1</c>.</summary>
+    public int RevisionCount { get; set; }
 
     /// <summary>Concurrency token: every state change checks and bumps it.</summary>
     public int Version { get; set; }
@@ -89,6 +95,10 @@ public sealed class ResultRevision
 
     /// <summary>The client's Idempotency-Key: a retry with the same key returns this revision.</summary>
     public string? IdempotencyKey { get; set; }
+
+    /// <summary>SHA-256 of the request the key was first used with, so a key reused for a different result is
+    /// refused instead of silently answered with the old revision.</summary>
+    public string? RequestHash { get; set; }
 }
 
 /// <summary>Who changed what, when, and from where (UI, an API token, or the system).</summary>

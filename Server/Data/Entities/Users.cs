@@ -1,4 +1,5 @@
 using Microsoft.AspNetCore.Identity;
+using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Data.Entities;
 
@@ -51,4 +52,32 @@ public sealed class SignInLink
     public DateTimeOffset ExpiresAt { get; set; }
 
     public DateTimeOffset? UsedAt { get; set; }
+}
+
+/// <summary>An invitation by a study's lead: a one-time code (only its hash is stored) that adds the person who
+/// accepts it to the study with the given role, creating their account when they have none.</summary>
+public sealed class Invitation
+{
+    public int Id { get; set; }
+
+    public int StudyId { get; set; }
+
+    public StudyRole Role { get; set; }
+
+    public required string CodeHash { get; set; }
+
+    /// <summary>Whom the lead meant it for (a name or address), shown to the lead only.</summary>
+    public string? Note { get; set; }
+
+    public Guid CreatedById { get; set; }
+
+    public DateTimeOffset CreatedAt { get; set; }
+
+    public DateTimeOffset ExpiresAt { get; set; }
+
+    public DateTimeOffset? AcceptedAt { get; set; }
+
+    public Guid? AcceptedById { get; set; }
+
+    public DateTimeOffset? RevokedAt { get; set; }
 }

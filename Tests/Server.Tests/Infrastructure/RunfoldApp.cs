@@ -20,11 +20,16 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
 
     private readonly Dictionary<string, string?> _settings;
     private readonly Func<ValueTask> _cleanup;
+    private readonly Action<IServiceCollection>? _services;
+    private readonly Action<ILoggingBuilder>? _logging;
 
-    private RunfoldApp(Dictionary<string, string?> settings, Func<ValueTask> cleanup, StorageProvider provider)
+    private RunfoldApp(Dictionary<string, string?> settings, Func<ValueTask> cleanup, StorageProvider provider,
+        Action<IServiceCollection>? services, Action<ILoggingBuilder>? logging)
     {
         _settings = settings;
         _cleanup = cleanup;
+        _services = services;
+        _logging = logging;
         Provider = provider;
     }
 
@@ -32,8 +37,13 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
 
     public string? PostgresConnectionString => _settings.GetValueOrDefault("RUNFOLD_POSTGRES");
 
+    /// <param name="services">Replaces services after the server's own registrations (a fake time provider …).</param>
+    /// <param name="sharedPostgres">Another instance's database: both servers then share it, as a team install
+    /// with several instances does; the database is dropped by the instance that created it.</param>
+    /// <param name="logging">Replaces the test logging set-up (the server's own log filters still apply).</param>
     public static async Task<RunfoldApp> StartAsync(StorageProvider provider = StorageProvider.Postgres, bool demo = false,
-        IDictionary<string, string?>? extra = null)
+        IDictionary<string, string?>? extra = null, Action<IServiceCollection>? services = null, RunfoldApp? sharedPostgres = null,
+        Action<ILoggingBuilder>? logging = null)
     {
         var settings = new Dictionary<string, string?>
         {
@@ -41,7 +51,12 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
             ["RUNFOLD_DEMO"] = demo ? "1" : "0",
         };
         Func<ValueTask> cleanup;
-        if (provider == StorageProvider.Postgres)
+        if (sharedPostgres?.PostgresConnectionString is { } shared)
+        {
+            settings["RUNFOLD_POSTGRES"] = shared;
+            cleanup = () => ValueTask.CompletedTask;
+        }
+        else if (provider == StorageProvider.Postgres)
         {
             var connectionString = await TestDatabases.CreatePostgresAsync();
             settings["RUNFOLD_POSTGRES"] = connectionString;
@@ -54,7 +69,7 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
             cleanup = () => { TestDatabases.DeleteFolder(folder); return ValueTask.CompletedTask; };
         }
         foreach (var (key, value) in extra ?? new Dictionary<string, string?>()) settings[key] = value;
-        var app = new RunfoldApp(settings, cleanup, provider);
+        var app = new RunfoldApp(settings, cleanup, provider, services, logging);
         _ = app.Server; // start now, so migrations and the first admin exist before the first request
         return app;
     }
@@ -64,6 +79,8 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
         foreach (var (key, value) in _settings) builder.UseSetting(key, value);
         builder.UseEnvironment("Production");
         builder.ConfigureLogging(logging => logging.SetMinimumLevel(LogLevel.Warning));
+        if (_logging is not null) builder.ConfigureLogging(_logging);
+        if (_services is not null) builder.ConfigureServices(_services);
     }
 
     /// <summary>A client that sends the admin's token, as a cluster script would.</summary>

@@ -39,8 +39,8 @@ public sealed class FullFactorialTests
     {
         var space = FactorSpace.Create([.. Enumerable.Range(0, 7).Select(i => new FactorSpec($"f{i}", Low: 0, High: 1))]).Value!;
         var result = DesignBuilder.Build(space, new DesignSpec(DesignMethod.FullFactorial, Levels: [10]));
-        Assert.False(result.IsValid);
-        var message = result.Errors.ToDictionary()["design"][0];
+        Assert.Equal(OutcomeKind.Unprocessable, result.Kind);
+        var message = result.Errors!["design"][0];
         Assert.Contains("10,000,000 runs", message, StringComparison.Ordinal);
         Assert.Contains("limit of 10,000", message, StringComparison.Ordinal);
         Assert.Contains("fractional factorial", message, StringComparison.Ordinal);
@@ -51,6 +51,6 @@ public sealed class FullFactorialTests
     {
         var space = FactorSpace.Create([new FactorSpec("n", FactorKind.Integer, 1, 3)]).Value!;
         var result = DesignBuilder.Build(space, new DesignSpec(DesignMethod.FullFactorial, Levels: [4]));
-        Assert.Contains("only 3 whole values", result.Errors.ToDictionary()["design.levels"][0], StringComparison.Ordinal);
+        Assert.Contains("only 3 whole values", result.Errors!["design.levels"][0], StringComparison.Ordinal);
     }
 }

@@ -364,6 +364,76 @@ namespace Runfold.Server.Data.Migrations.Postgres
                     b.ToTable("audit_events", (string)null);
                 });
 
+            modelBuilder.Entity("Runfold.Server.Data.Entities.Invitation", b =>
+                {
+                    b.Property<int>("Id")
+                        .ValueGeneratedOnAdd()
+                        .HasColumnType("integer")
+                        .HasColumnName("id");
+
+                    NpgsqlPropertyBuilderExtensions.UseIdentityByDefaultColumn(b.Property<int>("Id"));
+
+                    b.Property<DateTimeOffset?>("AcceptedAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("accepted_at");
+
+                    b.Property<Guid?>("AcceptedById")
+                        .HasColumnType("uuid")
+                        .HasColumnName("accepted_by_id");
+
+                    b.Property<string>("CodeHash")
+                        .IsRequired()
+                        .HasMaxLength(64)
+                        .HasColumnType("character varying(64)")
+                        .HasColumnName("code_hash");
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("created_at");
+
+                    b.Property<Guid>("CreatedById")
+                        .HasColumnType("uuid")
+                        .HasColumnName("created_by_id");
+
+                    b.Property<DateTimeOffset>("ExpiresAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("expires_at");
+
+                    b.Property<string>("Note")
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)")
+                        .HasColumnName("note");
+
+                    b.Property<DateTimeOffset?>("RevokedAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("revoked_at");
+
+                    b.Property<string>("Role")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("character varying(16)")
+                        .HasColumnName("role");
+
+                    b.Property<int>("StudyId")
+                        .HasColumnType("integer")
+                        .HasColumnName("study_id");
+
+                    b.HasKey("Id")
+                        .HasName("pk_invitations");
+
+                    b.HasIndex("CodeHash")
+                        .IsUnique()
+                        .HasDatabaseName("ix_invitations_code_hash");
+
+                    b.HasIndex("CreatedById")
+                        .HasDatabaseName("ix_invitations_created_by_id");
+
+                    b.HasIndex("StudyId")
+                        .HasDatabaseName("ix_invitations_study_id");
+
+                    b.ToTable("invitations", (string)null);
+                });
+
             modelBuilder.Entity("Runfold.Server.Data.Entities.ResultRevision", b =>
                 {
                     b.Property<long>("Id")
@@ -394,6 +464,11 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .HasMaxLength(4000)
                         .HasColumnType("character varying(4000)")
                         .HasColumnName("note");
+
+                    b.Property<string>("RequestHash")
+                        .HasMaxLength(64)
+                        .HasColumnType("character varying(64)")
+                        .HasColumnName("request_hash");
 
                     b.Property<int>("Revision")
                         .HasColumnType("integer")
@@ -465,9 +540,17 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .HasColumnType("timestamp with time zone")
                         .HasColumnName("lease_expires_at");
 
+                    b.Property<double?>("LeaseHours")
+                        .HasColumnType("double precision")
+                        .HasColumnName("lease_hours");
+
                     b.Property<int>("Number")
                         .HasColumnType("integer")
                         .HasColumnName("number");
+
+                    b.Property<int>("RevisionCount")
+                        .HasColumnType("integer")
+                        .HasColumnName("revision_count");
 
                     b.Property<string>("State")
                         .IsRequired()
@@ -505,8 +588,13 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .IsUnique()
                         .HasDatabaseName("ix_runs_study_id_number");
 
-                    b.HasIndex("StudyId", "State", "Number")
-                        .HasDatabaseName("ix_runs_study_id_state_number");
+                    b.HasIndex(new[] { "LeaseExpiresAt" }, "LapseQueue")
+                        .HasDatabaseName("ix_runs_claimed_lease")
+                        .HasFilter("state = 'claimed'");
+
+                    b.HasIndex(new[] { "StudyId", "Number" }, "OpenQueue")
+                        .HasDatabaseName("ix_runs_open_queue")
+                        .HasFilter("state = 'open'");
 
                     b.ToTable("runs", (string)null);
                 });
@@ -984,6 +1072,23 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .HasForeignKey("StudyId")
                         .OnDelete(DeleteBehavior.Cascade)
                         .HasConstraintName("fk_audit_events_studies_study_id");
+                });
+
+            modelBuilder.Entity("Runfold.Server.Data.Entities.Invitation", b =>
+                {
+                    b.HasOne("Runfold.Server.Data.Entities.RunfoldUser", null)
+                        .WithMany()
+                        .HasForeignKey("CreatedById")
+                        .OnDelete(DeleteBehavior.Restrict)
+                        .IsRequired()
+                        .HasConstraintName("fk_invitations_users_created_by_id");
+
+                    b.HasOne("Runfold.Server.Data.Entities.Study", null)
+                        .WithMany()
+                        .HasForeignKey("StudyId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired()
+                        .HasConstraintName("fk_invitations_studies_study_id");
                 });
 
             modelBuilder.Entity("Runfold.Server.Data.Entities.ResultRevision", b =>

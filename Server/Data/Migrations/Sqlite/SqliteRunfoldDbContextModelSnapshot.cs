@@ -346,6 +346,74 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                     b.ToTable("audit_events", (string)null);
                 });
 
+            modelBuilder.Entity("Runfold.Server.Data.Entities.Invitation", b =>
+                {
+                    b.Property<int>("Id")
+                        .ValueGeneratedOnAdd()
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("id");
+
+                    b.Property<long?>("AcceptedAt")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("accepted_at");
+
+                    b.Property<Guid?>("AcceptedById")
+                        .HasColumnType("TEXT")
+                        .HasColumnName("accepted_by_id");
+
+                    b.Property<string>("CodeHash")
+                        .IsRequired()
+                        .HasMaxLength(64)
+                        .HasColumnType("TEXT")
+                        .HasColumnName("code_hash");
+
+                    b.Property<long>("CreatedAt")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("created_at");
+
+                    b.Property<Guid>("CreatedById")
+                        .HasColumnType("TEXT")
+                        .HasColumnName("created_by_id");
+
+                    b.Property<long>("ExpiresAt")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("expires_at");
+
+                    b.Property<string>("Note")
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT")
+                        .HasColumnName("note");
+
+                    b.Property<long?>("RevokedAt")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("revoked_at");
+
+                    b.Property<string>("Role")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("TEXT")
+                        .HasColumnName("role");
+
+                    b.Property<int>("StudyId")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("study_id");
+
+                    b.HasKey("Id")
+                        .HasName("pk_invitations");
+
+                    b.HasIndex("CodeHash")
+                        .IsUnique()
+                        .HasDatabaseName("ix_invitations_code_hash");
+
+                    b.HasIndex("CreatedById")
+                        .HasDatabaseName("ix_invitations_created_by_id");
+
+                    b.HasIndex("StudyId")
+                        .HasDatabaseName("ix_invitations_study_id");
+
+                    b.ToTable("invitations", (string)null);
+                });
+
             modelBuilder.Entity("Runfold.Server.Data.Entities.ResultRevision", b =>
                 {
                     b.Property<long>("Id")
@@ -374,6 +442,11 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                         .HasMaxLength(4000)
                         .HasColumnType("TEXT")
                         .HasColumnName("note");
+
+                    b.Property<string>("RequestHash")
+                        .HasMaxLength(64)
+                        .HasColumnType("TEXT")
+                        .HasColumnName("request_hash");
 
                     b.Property<int>("Revision")
                         .HasColumnType("INTEGER")
@@ -443,9 +516,17 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                         .HasColumnType("INTEGER")
                         .HasColumnName("lease_expires_at");
 
+                    b.Property<double?>("LeaseHours")
+                        .HasColumnType("REAL")
+                        .HasColumnName("lease_hours");
+
                     b.Property<int>("Number")
                         .HasColumnType("INTEGER")
                         .HasColumnName("number");
+
+                    b.Property<int>("RevisionCount")
+                        .HasColumnType("INTEGER")
+                        .HasColumnName("revision_count");
 
                     b.Property<string>("State")
                         .IsRequired()
@@ -483,8 +564,13 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                         .IsUnique()
                         .HasDatabaseName("ix_runs_study_id_number");
 
-                    b.HasIndex("StudyId", "State", "Number")
-                        .HasDatabaseName("ix_runs_study_id_state_number");
+                    b.HasIndex(new[] { "LeaseExpiresAt" }, "LapseQueue")
+                        .HasDatabaseName("ix_runs_claimed_lease")
+                        .HasFilter("state = 'claimed'");
+
+                    b.HasIndex(new[] { "StudyId", "Number" }, "OpenQueue")
+                        .HasDatabaseName("ix_runs_open_queue")
+                        .HasFilter("state = 'open'");
 
                     b.ToTable("runs", (string)null);
                 });
@@ -952,6 +1038,23 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                         .HasForeignKey("StudyId")
                         .OnDelete(DeleteBehavior.Cascade)
                         .HasConstraintName("fk_audit_events_studies_study_id");
+                });
+
+            modelBuilder.Entity("Runfold.Server.Data.Entities.Invitation", b =>
+                {
+                    b.HasOne("Runfold.Server.Data.Entities.RunfoldUser", null)
+                        .WithMany()
+                        .HasForeignKey("CreatedById")
+                        .OnDelete(DeleteBehavior.Restrict)
+                        .IsRequired()
+                        .HasConstraintName("fk_invitations_users_created_by_id");
+
+                    b.HasOne("Runfold.Server.Data.Entities.Study", null)
+                        .WithMany()
+                        .HasForeignKey("StudyId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired()
+                        .HasConstraintName("fk_invitations_studies_study_id");
                 });
 
             modelBuilder.Entity("Runfold.Server.Data.Entities.ResultRevision", b =>
