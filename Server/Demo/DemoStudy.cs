@@ -26,7 +26,8 @@ public static class DemoStudy
             new ResponseSpec("pressure_drop", ResponseGoal.Minimize, Upper: 60, Unit: "Pa", Weight: 0.5),
             new ResponseSpec("mass", ResponseGoal.Minimize, Unit: "g", Weight: 0.5),
         ],
-        Design: new DesignSpec(DesignMethod.FullFactorial),
+        // A first wave of 8 runs per factor spread by a maximin Latin hypercube (5–10 per factor is common practice).
+        Design: new DesignSpec(DesignMethod.LatinHypercube, Runs: 40, Seed: 2026, Maximin: true),
         Description: "Demo study (invented data). Which fin geometry keeps the module's base below its temperature limit " +
                      "at the lowest mass, without exceeding the fan's 60 Pa budget? Each run is one conjugate heat-transfer case.");
 

@@ -291,7 +291,6 @@ run_one() {
     [ -n "$lease_hours" ] && claim_body="{\"count\":1,\"leaseHours\":$lease_hours}"
     claiming=1
     api POST "/api/studies/$study/claims" "$claim_body"
-    claiming=0
     case "$STATUS" in
         200) ;;
         000) die 2 "The server at $url did not answer after $retries retries: $BODY" ;;
@@ -299,9 +298,10 @@ run_one() {
         *) die 2 "The claim failed ($STATUS): $(problem)" ;;
     esac
     flat="$(json_flatten "$BODY")" || die 2 "The claim's answer is not JSON: ${BODY:0:200}"
-    run_id="$(json_get "$flat" 0.id)" || { say "Study $study has no open run."; [ "$stop_requested" = 0 ] || exit 143; return 10; }
+    run_id="$(json_get "$flat" 0.id)" || { claiming=0; say "Study $study has no open run."; [ "$stop_requested" = 0 ] || exit 143; return 10; }
     number="$(json_get "$flat" 0.number)"
     current_run="$run_id"
+    claiming=0
     [ "$stop_requested" = 0 ] || on_signal   # stopped while the claim was on its way
     run_dir="$workdir/run-$number"
     mkdir -p "$run_dir"
@@ -384,7 +384,7 @@ run_one() {
 # A stopped job (scancel, the queue's time limit) hands its run back instead of leaving it claimed.
 claiming=0 stop_requested=0
 on_signal() {
-    # During the claim call the run's id is not known yet: note the stop and act once the answer is in.
+    # Until the claim's answer is read the run's id is not known: note the stop and act once it is.
     if [ "$claiming" = 1 ]; then stop_requested=1; return; fi
     trap '' TERM INT
     [ -n "$solver_pid" ] && kill -TERM "$solver_pid" 2>/dev/null

@@ -124,7 +124,7 @@ public sealed class JobServer : IAsyncDisposable
         lock (_output) _output.AppendLine(line);
     }
 
-    private static string ServerFolder()
+    public static string ServerFolder()
     {
         var folder = Environment.GetEnvironmentVariable("RUNFOLD_TEST_SERVER_FOLDER") ?? Repository.PathOf("Server", "bin",
 #if DEBUG
