@@ -6,6 +6,7 @@ using Runfold.Server.Hosting;
 using Runfold.Server.Results;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Scalar.AspNetCore;
 
 if (CommandLine.IsCommand(args)) return await CommandLine.RunAsync(args);
@@ -28,6 +29,7 @@ builder.Services.AddRuns();
 builder.Services.AddDesigns();
 builder.Services.AddResults();
 builder.Services.AddRunfoldPages();
+builder.AddRunfoldTelemetry();
 
 var app = builder.Build();
 
@@ -43,6 +45,7 @@ app.MapStaticAssets();
 app.MapOpenApi();
 app.MapScalarApiReference("/api-docs", o => o.WithTitle("Runfold API"));
 app.MapHealthApi();
+app.MapRunfoldTelemetry();
 app.MapSignInApi();
 app.MapStudiesApi();
 app.MapRunsApi();

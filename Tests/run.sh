@@ -46,6 +46,11 @@ if [ ! -x "$chromium" ]; then
 fi
 export RUNFOLD_CHROMIUM="$chromium"
 
+if ! command -v curl >/dev/null; then
+    say "curl is missing (the cluster job script under test uses it); installing Debian's curl package."
+    apt_install curl || die "Cannot install curl here: install it and run again."
+fi
+
 # --- a throwaway PostgreSQL cluster -------------------------------------------------------------------------
 free_port() {
     local port

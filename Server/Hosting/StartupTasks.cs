@@ -39,8 +39,7 @@ public sealed class StartupTasks(
         var db = scoped.GetRequiredService<RunfoldDbContext>();
         if (await db.Studies.AnyAsync(cancellationToken)) return;
         var caller = new Caller(admin.AdminId, AdminBootstrap.AdminUserName, IsAdmin: true, ApiTokenId: null);
-        var created = await scoped.GetRequiredService<StudyService>().CreateAsync(caller, DemoStudy.Request(), cancellationToken);
-        if (!created.IsOk) throw new InvalidOperationException("The demo study could not be created: " + created.Message);
+        await DemoSeeder.SeedAsync(scoped, caller, cancellationToken);
     }
 
     /// <summary>Written to the console, not to the logs: the token and link are secrets shown once.</summary>

@@ -5,6 +5,7 @@ using Runfold.Server.Auth;
 using Runfold.Server.Data;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Results;
@@ -158,6 +159,8 @@ public sealed partial class BulkResults(RunfoldDbContext db, TimeProvider time, 
         await transaction.CommitAsync(cancellationToken);
         db.ChangeTracker.Clear();
         changes.Publish(new StudyChange(studyId, StudyChangeKind.Results, version));
+        RunfoldMetrics.ResultsUploaded("done", "bulk", accepted.Count(a => a.Result.State == RunState.Done));
+        RunfoldMetrics.ResultsUploaded("failed", "bulk", accepted.Count(a => a.Result.State == RunState.Failed));
         return null;
     }
 

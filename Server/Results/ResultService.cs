@@ -8,6 +8,7 @@ using Runfold.Server.Data;
 using Runfold.Server.Data.Entities;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Results;
@@ -92,6 +93,7 @@ public sealed class ResultService(RunfoldDbContext db, TimeProvider time, IStudy
         }
         db.ChangeTracker.Clear();
         changes.Publish(new StudyChange(run.StudyId, StudyChangeKind.Results, version));
+        RunfoldMetrics.ResultsUploaded(result.State == RunState.Done ? "done" : "failed", caller.Source);
         return Outcome<ResultReceipt>.Ok(new ResultReceipt(run.Id, run.Number, revision, result.State));
     }
 

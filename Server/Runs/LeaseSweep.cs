@@ -1,6 +1,7 @@
 using Microsoft.EntityFrameworkCore;
 using Runfold.Server.Data;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Runs;
@@ -48,6 +49,7 @@ public sealed class LeaseSweeper(IDbContextFactory<RunfoldDbContext> contexts, T
                 changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, await db.ResultSetVersionAsync(studyId, cancellationToken)));
             if (lapsed.Count < Batch) break;
         }
+        RunfoldMetrics.LeasesLapsed(freed);
         return freed;
     }
 }

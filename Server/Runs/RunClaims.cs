@@ -5,6 +5,7 @@ using Runfold.Server.Auth;
 using Runfold.Server.Data;
 using Runfold.Server.Data.Entities;
 using Runfold.Server.Studies;
+using Runfold.Server.Telemetry;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Runs;
@@ -44,6 +45,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
         var now = time.GetUtcNow();
         var ids = await ClaimOnSqliteAsync(caller, studyId, request.Count, hours, now, cancellationToken);
         if (ids.Count > 0) changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, study!.ResultSetVersion)); // claims do not bump it
+        RunfoldMetrics.RunsClaimed(ids.Count);
         return Outcome<IReadOnlyList<RunDto>>.Ok(await queries.ListByIdsAsync(studyId, ids, cancellationToken));
     }
 
@@ -131,6 +133,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
         if (Denied(found ? role : null, studyId) is { } denied) return denied;
         if (rows.Count == 0) return Outcome<IReadOnlyList<RunDto>>.Ok([]);
         changes.Publish(new StudyChange(studyId, StudyChangeKind.Claims, version)); // claims do not bump it
+        RunfoldMetrics.RunsClaimed(rows.Count);
         var space = await factorSpaces.GetAsync(db, studyId, cancellationToken);
         return Outcome<IReadOnlyList<RunDto>>.Ok([.. rows.Select(r =>
             new RunDto(r.Id, r.Number, r.Wave, RunState.Claimed, space.ToValues(r.Factors), caller.UserName, r.Lease))]);
@@ -169,7 +172,10 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
             if (role < StudyRole.Analyst) return Outcome<HeartbeatAnswer>.Forbidden(StudyAccess.Refusal(role.Value, StudyRole.Analyst, "heartbeat runs"));
             var now = time.GetUtcNow();
             if (run.State != RunState.Claimed || run.AssigneeId != caller.UserId || run.LeaseExpiresAt <= now)
+            {
+                RunfoldMetrics.Heartbeat(extended: false);
                 return Outcome<HeartbeatAnswer>.Conflict(NotHolding(run, caller));
+            }
             var expires = now.AddHours(run.LeaseHours ?? 24);
             var updated = await db.Runs
                 .Where(r => r.Id == runId && r.Version == run.Version && r.State == RunState.Claimed && r.AssigneeId == caller.UserId)
@@ -180,6 +186,7 @@ public sealed class RunClaims(RunfoldDbContext db, TimeProvider time, IStudyChan
             if (updated == 1)
             {
                 changes.Publish(new StudyChange(run.StudyId, StudyChangeKind.Claims, await db.ResultSetVersionAsync(run.StudyId, cancellationToken)));
+                RunfoldMetrics.Heartbeat(extended: true);
                 return Outcome<HeartbeatAnswer>.Ok(new HeartbeatAnswer(expires));
             }
             // The run changed between reading and updating (a concurrent heartbeat, release or sweep): look again.

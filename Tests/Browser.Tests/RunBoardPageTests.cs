@@ -19,6 +19,7 @@ public sealed class RunBoardPageTests : IAsyncLifetime
     private HttpClient _admin = null!;
     private int _demoId;
     private int _scriptId;
+    private int _firstOpen;
 
     public async Task InitializeAsync()
     {
@@ -27,6 +28,8 @@ public sealed class RunBoardPageTests : IAsyncLifetime
         _admin = new HttpClient { BaseAddress = _server.Address };
         _admin.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", ServerProcess.AdminToken);
         _demoId = (await _admin.GetFromJsonAsync<List<StudySummary>>("/api/studies", RunfoldJson.Options))!.Single().Id;
+        // The seeded demo has most runs done already: the analyst's claim takes the lowest-numbered open one.
+        _firstOpen = (await _admin.GetFromJsonAsync<List<RunDto>>($"/api/studies/{_demoId}/runs?state=open", RunfoldJson.Options))!.Min(r => r.Number);
         Ok(await _admin.PostAsJsonAsync("/api/users", new CreateUserRequest("ana", "Ana Ruiz", Password), RunfoldJson.Options));
         Ok(await _admin.PutAsJsonAsync($"/api/studies/{_demoId}/members/ana", new MemberRoleRequest(StudyRole.Analyst), RunfoldJson.Options));
 
@@ -78,7 +81,7 @@ public sealed class RunBoardPageTests : IAsyncLifetime
         await page.GotoAsync(new Uri(_server.Address, $"/studies/{_demoId}/runs").ToString());
         await ChromiumBrowser.WaitUntilLiveAsync(page);
         await page.ClickAsync("#claim");
-        await Assertions.Expect(page.Locator(".notice-ok")).ToContainTextAsync("You claimed run 1");
+        await Assertions.Expect(page.Locator(".notice-ok")).ToContainTextAsync($"You claimed run {_firstOpen}.");
         var mine = page.Locator("table.mine tbody tr");
         await Assertions.Expect(mine).ToHaveCountAsync(1);
         await mine.GetByText("Enter result").ClickAsync();
@@ -87,12 +90,12 @@ public sealed class RunBoardPageTests : IAsyncLifetime
         await page.FillAsync("#value-mass", "118");
         await ChromiumBrowser.ScreenshotAsync(page, "run-board-result-form");
         await page.ClickAsync("#submit-result");
-        await Assertions.Expect(page.Locator(".notice-ok")).ToContainTextAsync("Stored revision 1 of run 1 (done)");
+        await Assertions.Expect(page.Locator(".notice-ok")).ToContainTextAsync($"Stored revision 1 of run {_firstOpen} (done)");
         await Assertions.Expect(page.Locator("table.mine tbody tr")).ToHaveCountAsync(0);
         await ChromiumBrowser.ScreenshotAsync(page, "run-board");
 
         await page.ClickAsync(".study-nav >> text=Activity");
-        await Assertions.Expect(page.Locator(".activity-item").First).ToContainTextAsync("ana stored the result of run 1 (revision 1)");
+        await Assertions.Expect(page.Locator(".activity-item").First).ToContainTextAsync($"ana stored the result of run {_firstOpen} (revision 1)");
         await Assertions.Expect(page.Locator(".activity-item").First.Locator(".via")).ToHaveTextAsync("via UI");
         await ChromiumBrowser.ScreenshotAsync(page, "activity-feed");
 
