@@ -25,5 +25,6 @@ public static class BenchmarkRegistry
     {
         DoeBenchmarks.Register();
         ClaimsBenchmark.Register();
+        ModelingBenchmarks.Register();
     }
 }
