@@ -82,7 +82,8 @@ public sealed class SetupAndRunBoardTests : IAsyncLifetime
         await Assertions.Expect(page.Locator("h1")).ToHaveTextAsync("New study");
         await ChromiumBrowser.WaitUntilLiveAsync(page);
         await Assertions.Expect(page.Locator("#preview-runs")).ToHaveTextAsync("40");
-        await Assertions.Expect(page.Locator(".scatter-matrix .main-svg").First).ToBeAttachedAsync(); // plotly drew it
+        // plotly drew it (its 3.7 MB script is loaded on first use: slow on a busy machine)
+        await Assertions.Expect(page.Locator(".scatter-matrix .main-svg").First).ToBeAttachedAsync(new() { Timeout = 30_000 });
 
         await page.FillAsync("#name", "Heat sink, wider fins");
         await page.FillAsync("#design\\.runs", "12");
