@@ -22,6 +22,26 @@ public static class Formats
     /// <summary>An instant as UTC, to the minute: "2026-11-30 08:15 UTC".</summary>
     public static string Instant(DateTimeOffset at) => at.UtcDateTime.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture) + " UTC";
 
+    /// <summary>A time of day as UTC to the second, for "updated at" marks: "08:15:03 UTC".</summary>
+    public static string TimeOfDay(DateTimeOffset at) => at.UtcDateTime.ToString("HH:mm:ss", CultureInfo.InvariantCulture) + " UTC";
+
+    /// <summary>A duration in the largest unit that reads well: "45 s", "12 min", "3.5 h", "2.1 days".</summary>
+    public static string Duration(TimeSpan span)
+    {
+        var seconds = Math.Abs(span.TotalSeconds);
+        return seconds switch
+        {
+            < 90 => $"{Number(Math.Round(seconds))} s",
+            < 90 * 60 => $"{Number(Math.Round(seconds / 60))} min",
+            < 48 * 3600 => $"{Number(Math.Round(seconds / 3600, 1))} h",
+            _ => $"{Number(Math.Round(seconds / 86400, 1))} days",
+        };
+    }
+
+    /// <summary>A predicted value with its standard deviation when there is one: "0.412 ± 0.018 K/W".</summary>
+    public static string Predicted(double mean, double? sd, string? unit) =>
+        (sd is { } s && double.IsFinite(s) ? $"{Number(mean)} ± {Number(s)}" : Number(mean)) + (unit is null ? "" : " " + unit);
+
     public static string Role(StudyRole role) => role.ToString().ToLowerInvariant();
 
     public static string State(RunState state) => state.ToString().ToLowerInvariant();

@@ -17,6 +17,8 @@ public static class PagesServiceCollectionExtensions
         services.AddScoped<IActivityFeed, ActivityPages>();
         services.AddScoped<IStudyMembership, MembershipPages>();
         services.AddScoped<IAccountService, AccountPages>();
+        services.AddScoped<IStudySetup, StudySetupPages>();
+        services.AddScoped<IRunProgress, RunProgressPages>();
         return services;
     }
 }

@@ -11,6 +11,7 @@ public static class RunsApi
     {
         services.AddScoped<RunQueries>();
         services.AddScoped<RunClaims>();
+        services.AddScoped<RunProgressQueries>();
         services.AddSingleton<FactorSpaces>();
         services.AddSingleton<LeaseSweeper>();
         services.AddHostedService<LeaseSweepService>();

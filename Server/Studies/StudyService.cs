@@ -26,7 +26,24 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
             .Select(g => new { g.Key.StudyId, g.Key.State, Count = g.Count() })
             .ToListAsync(cancellationToken);
         var byStudy = counts.ToLookup(c => c.StudyId, c => (c.State, c.Count));
-        return [.. studies.Select(s => new StudySummary(s.Id, s.Name, byStudy[s.Id].ToCounts(), s.CreatedAt, s.LastActivityAt))];
+        // The newest event and the newest snapshot of each study: one indexed lookup per study inside one query each.
+        var lastEvents = await db.AuditEvents.AsNoTracking()
+            .Where(e => e.StudyId != null && ids.Contains(e.StudyId.Value)
+                        && e.Id == db.AuditEvents.Where(x => x.StudyId == e.StudyId).Max(x => x.Id))
+            .Select(e => new { StudyId = e.StudyId!.Value, e.At, e.Detail })
+            .ToDictionaryAsync(e => e.StudyId, cancellationToken);
+        var snapshots = await db.AnalysisSnapshots.AsNoTracking()
+            .Where(a => ids.Contains(a.StudyId)
+                        && a.Version == db.AnalysisSnapshots.Where(x => x.StudyId == a.StudyId).Max(x => x.Version))
+            .Select(a => new { a.StudyId, a.PayloadJson })
+            .ToDictionaryAsync(a => a.StudyId, a => a.PayloadJson, cancellationToken);
+        return [.. studies.Select(s =>
+        {
+            var last = lastEvents.GetValueOrDefault(s.Id);
+            var lastAt = last is null ? s.LastActivityAt : s.LastActivityAt is { } bumped && bumped > last.At ? bumped : last.At;
+            return new StudySummary(s.Id, s.Name, byStudy[s.Id].ToCounts(), s.CreatedAt, lastAt, last?.Detail,
+                snapshots.TryGetValue(s.Id, out var payload) ? BestCandidates.FromSnapshot(payload) : null);
+        })];
     }
 
     public async Task<Outcome<StudyDetail>> GetAsync(Caller caller, int studyId, CancellationToken cancellationToken)

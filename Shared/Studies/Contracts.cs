@@ -58,7 +58,31 @@ public sealed record RunCounts(int Open, int Claimed, int Done, int Failed)
     public static RunCounts Empty { get; } = new(0, 0, 0, 0);
 }
 
-public sealed record StudySummary(int Id, string Name, RunCounts Counts, DateTimeOffset CreatedAt, DateTimeOffset? LastActivityAt);
+/// <summary>A study as the studies list shows it. <see cref="LastActivityAt"/> and <see cref="LastActivity"/> are the
+/// newest event of its activity feed (time and what happened); <see cref="BestCandidate"/> comes from the newest
+/// analysis snapshot and is absent until one holds a candidate.</summary>
+public sealed record StudySummary(
+    int Id,
+    string Name,
+    RunCounts Counts,
+    DateTimeOffset CreatedAt,
+    DateTimeOffset? LastActivityAt,
+    string? LastActivity = null,
+    BestCandidateSummary? BestCandidate = null);
+
+/// <summary>The top-ranked candidate of a study's newest analysis snapshot, at a glance: its desirability and the
+/// predicted value of each response. A prediction until a verification run confirms it.</summary>
+public sealed record BestCandidateSummary(
+    int SnapshotVersion,
+    int BasedOnRuns,
+    DateTimeOffset ComputedAt,
+    double Desirability,
+    bool Extrapolating,
+    bool Verified,
+    IReadOnlyList<PredictedResponseSummary> Predicted);
+
+/// <summary>One response's predicted mean (and standard deviation, when the model gives one) in its unit.</summary>
+public sealed record PredictedResponseSummary(string Response, string? Unit, double Mean, double? Sd);
 
 public sealed record StudyMemberDto(Guid UserId, string UserName, string? DisplayName, StudyRole Role);
 

@@ -45,6 +45,8 @@ public sealed class StudiesPageTests : IAsyncLifetime
         await card.Locator("a.study-name").ClickAsync();
         await Assertions.Expect(page.Locator("h1")).ToHaveTextAsync("Plate-fin heat sink for the inverter module");
         await Assertions.Expect(page.Locator("table").First).ToContainTextAsync("fin_height");
+        // The table renders only the rows in view; the demo's open runs are the highest-numbered, at its end.
+        await page.Locator(".grid-scroll").EvaluateAsync("e => { e.scrollTop = e.scrollHeight; }");
         await Assertions.Expect(page.Locator(".grid-scroll .pill-open").First).ToBeVisibleAsync();
         await ChromiumBrowser.ScreenshotAsync(page, "study-page");
         Assert.True(problems.Count == 0, "The browser reported problems:\n" + string.Join("\n", problems));
