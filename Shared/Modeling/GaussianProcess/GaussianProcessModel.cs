@@ -16,8 +16,8 @@ public static class GaussianProcessModel
     private const double LargestNugget = 1e-4;
 
     /// <summary>
-    /// Fits by maximum likelihood: the first start has every length scale at 1 (coded units) or at
-    /// <see cref="GaussianProcessOptions.InitialLengthScales"/>, the
+    /// Fits by maximum likelihood: the first start has every length scale at 1 (coded units), or is
+    /// <see cref="GaussianProcessOptions.InitialLengthScales"/> followed by that one when restarts are asked for; the
     /// <see cref="GaussianProcessOptions.Restarts"/> further starts come from a seeded Latin hypercube over log
     /// length scales in [0.1, 20]; each runs the bounded quasi-Newton search with the analytic gradient, and the
     /// best end point wins.
@@ -98,11 +98,17 @@ public static class GaussianProcessModel
     private static List<double[]> Starts(int m, GaussianProcessOptions options, double[] lower, double[] upper)
     {
         var starts = new List<double[]>();
-        var first = new double[lower.Length];
+        var ones = new double[lower.Length];
+        if (options.Noisy) ones[m] = Math.Log(1e-2);
         if (options.InitialLengthScales is { } initial)
-            for (var k = 0; k < m; k++) first[k] = Math.Clamp(Math.Log(initial[k]), lower[k], upper[k]);
-        if (options.Noisy) first[m] = Math.Log(1e-2);
-        starts.Add(first);
+        {
+            var warm = (double[])ones.Clone();
+            for (var k = 0; k < m; k++) warm[k] = Math.Clamp(Math.Log(initial[k]), lower[k], upper[k]);
+            starts.Add(warm);
+        }
+        // With a warm start and restarts asked for, the usual first start stays among them, so a warm start that sits
+        // in a poor optimum of the likelihood can still be left.
+        if (options.InitialLengthScales is null || options.Restarts > 0) starts.Add(ones);
         if (options.Restarts == 0) return starts;
         var random = new Random(options.Seed);
         var dimension = lower.Length;

@@ -46,7 +46,9 @@ public sealed record GaussianProcessOptions
     public int Seed { get; init; } = 1;
 
     /// <summary>Where the first likelihood search starts: one length scale per encoded column (coded units), for
-    /// example those of the previous fit when a few runs were added (a warm start). Null: every length scale 1.</summary>
+    /// example those of the previous fit when a few runs were added (a warm start). With no restarts it is the only
+    /// start; with restarts the usual start (every length scale 1) and the random ones follow. Null: every length
+    /// scale 1.</summary>
     public IReadOnlyList<double>? InitialLengthScales { get; init; }
 
     /// <summary>Noise variance over signal variance for deterministic responses.</summary>
