@@ -122,10 +122,12 @@ public static class CandidateSearch
         var evaluations = 2 * spread.Count + runs.Count;
         var plan = Plan(options, set.GoalResponses.Length, space.Count, secondsPerPoint, watch.Elapsed);
 
-        var pool = new List<double[]>(spread);
         var seeds = Enumerable.Range(0, spread.Count)
             .OrderByDescending(i => spreadEvaluation.FactorViolation[i] == 0)
             .ThenByDescending(i => spreadEvaluation.Fitness[i]).Select(i => spread[i]).ToList();
+        // The pool of designs to rank: the best spread points, then what the searches end with (ranking is quadratic
+        // in the pool's size, so the rest of the spread points stay out).
+        var pool = seeds.Take(64).ToList();
 
         var evolution = DifferentialEvolution.Minimize(
             Problem(search, set, 1, (e, i) => [-e.Fitness[i]], (e, i) => e.FactorViolation[i]),
@@ -142,8 +144,7 @@ public static class CandidateSearch
         if (set.GoalResponses.Length >= 2)
         {
             var best = evolution.Points[evolution.Best];
-            var pareto = Nsga2.Minimize(
-                Problem(search, set, set.GoalResponses.Length, (e, i) => e.Goals[i], (e, i) => e.FactorViolation[i] + e.LimitViolation[i]),
+            var pareto = Nsga2.Minimize(GoalProblem(search, set),
                 new Nsga2Options
                 {
                     PopulationSize = plan.ParetoPopulation, Generations = plan.ParetoGenerations, Seed = options.Seed,
@@ -211,6 +212,10 @@ public static class CandidateSearch
 
     private static int[] ParetoRanks(Evaluation evaluation) =>
         Sorting.Rank(evaluation.Goals, [.. Enumerable.Range(0, evaluation.Count).Select(i => evaluation.FactorViolation[i] + evaluation.LimitViolation[i])]);
+
+    /// <summary>The goals as objectives to minimise, with the hard limits and factor constraints as the violation.</summary>
+    internal static BoxProblem GoalProblem(SearchSpace search, ObjectiveSet set) =>
+        Problem(search, set, set.GoalResponses.Length, (e, i) => e.Goals[i], (e, i) => e.FactorViolation[i] + e.LimitViolation[i]);
 
     private static BoxProblem Problem(SearchSpace search, ObjectiveSet set, int objectives, Func<Evaluation, int, double[]> values,
         Func<Evaluation, int, double> violation) =>
