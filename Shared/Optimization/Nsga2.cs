@@ -265,21 +265,28 @@ public static class Sorting
         var dominates = new List<int>[count];
         var ranks = new int[count];
         var front = new List<int>();
+        for (var p = 0; p < count; p++) dominates[p] = [];
+        // Each pair once.
         for (var p = 0; p < count; p++)
-        {
-            dominates[p] = [];
-            for (var q = 0; q < count; q++)
+            for (var q = p + 1; q < count; q++)
             {
-                if (p == q) continue;
-                if (Dominates(objectives[p], violations[p], objectives[q], violations[q])) dominates[p].Add(q);
-                else if (Dominates(objectives[q], violations[q], objectives[p], violations[p])) dominatedBy[p]++;
+                if (Dominates(objectives[p], violations[p], objectives[q], violations[q]))
+                {
+                    dominates[p].Add(q);
+                    dominatedBy[q]++;
+                }
+                else if (Dominates(objectives[q], violations[q], objectives[p], violations[p]))
+                {
+                    dominates[q].Add(p);
+                    dominatedBy[p]++;
+                }
             }
+        for (var p = 0; p < count; p++)
             if (dominatedBy[p] == 0)
             {
                 ranks[p] = 1;
                 front.Add(p);
             }
-        }
         var rank = 1;
         while (front.Count > 0)
         {

@@ -26,6 +26,9 @@ public sealed class CandidateSearchTests
         ];
     }
 
+    /// <summary>A shorter search for the checks where the quality of the optimum is not the point.</summary>
+    private static readonly CandidateOptions Quick = new() { Generations = 30, EvolutionGenerations = 40 };
+
     private static Matrix<double> Runs() => UnitCube.ToCoded(Space, LatinHypercube.Maximin(24, Space.Count, seed: 1));
 
     [Fact]
@@ -80,7 +83,7 @@ public sealed class CandidateSearchTests
         // Runs only in the lower-left quarter of fin height and velocity; candidates far from them are flagged.
         var crowded = Matrix<double>.Build.DenseOfRowArrays(Enumerable.Range(0, 12).Select(i =>
             new[] { -1 + 0.05 * (i % 4), Space[1].ToCoded(10 + i), Space[2].ToCoded(i % 2), -1 + 0.05 * (i / 4) }).ToArray());
-        var result = CandidateSearch.Find(Space, Objectives(), crowded, Constraints, new CandidateOptions { Count = 3 });
+        var result = CandidateSearch.Find(Space, Objectives(), crowded, Constraints, Quick with { Count = 3 });
         Assert.All(result.Candidates, c =>
         {
             var nearest = Enumerable.Range(0, crowded.RowCount).Min(i => Distance(c.Coded, crowded.Row(i).ToArray()));
@@ -88,7 +91,7 @@ public sealed class CandidateSearchTests
             Assert.Equal(nearest > result.ExtrapolationDistance, c.Extrapolating);
         });
         Assert.Contains(result.Candidates, c => c.Extrapolating);
-        var fixedThreshold = CandidateSearch.Find(Space, Objectives(), crowded, Constraints, new CandidateOptions { Count = 3, ExtrapolationDistance = 100 });
+        var fixedThreshold = CandidateSearch.Find(Space, Objectives(), crowded, Constraints, Quick with { Count = 3, ExtrapolationDistance = 100 });
         Assert.All(fixedThreshold.Candidates, c => Assert.False(c.Extrapolating));
     }
 
@@ -118,8 +121,8 @@ public sealed class CandidateSearchTests
     [Fact]
     public void Same_seed_gives_the_same_candidates()
     {
-        var one = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, new CandidateOptions { Seed = 4 });
-        var two = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, new CandidateOptions { Seed = 4 });
+        var one = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, Quick with { Seed = 4 });
+        var two = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, Quick with { Seed = 4 });
         Assert.Equal(one.Candidates.SelectMany(c => c.Coded), two.Candidates.SelectMany(c => c.Coded));
     }
 

@@ -115,7 +115,7 @@ public sealed class NextWaveTests
     public void Verification_runs_repeat_the_candidates_and_compare_with_the_cross_validated_error()
     {
         var (runs, objectives) = Study();
-        var candidates = CandidateSearch.Find(Space, objectives, runs, Constraints, new CandidateOptions { Count = 2 }).Candidates;
+        var candidates = CandidateSearch.Find(Space, objectives, runs, Constraints, new CandidateOptions { Count = 2, Generations = 30, EvolutionGenerations = 40 }).Candidates;
         var verify = NextWave.Verify(Space, candidates);
         Assert.Equal(2, verify.Count);
         Assert.Equal(candidates[0].Coded, verify[0].Coded);

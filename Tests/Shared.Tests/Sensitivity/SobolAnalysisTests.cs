@@ -50,7 +50,7 @@ public sealed class SobolAnalysisTests
         var unit = LatinHypercube.Maximin(200, 3, seed: 11);
         var coded = Matrix<double>.Build.Dense(200, 3, (i, j) => 2 * unit[i, j] - 1);
         var y = Enumerable.Range(0, 200).Select(i => ishigami.Evaluate(ishigami.FromCoded(coded.Row(i).ToArray()))).ToArray();
-        var gp = GaussianProcessModel.Fit(IshigamiSpace, coded, y, new GaussianProcessOptions { Restarts = 2 });
+        var gp = GaussianProcessModel.Fit(IshigamiSpace, coded, y, new GaussianProcessOptions { Restarts = 1 });
         var indices = SobolAnalysis.Estimate(gp, new SobolOptions { BaseSamples = 1 << 13 });
         for (var i = 0; i < 3; i++)
         {
