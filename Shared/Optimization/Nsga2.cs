@@ -163,7 +163,9 @@ public static class Nsga2
             points = [.. keep.Select(i => allPoints[i])];
             objectives = [.. keep.Select(i => allObjectives[i])];
             violations = [.. keep.Select(i => allViolations[i])];
-            ranks = Sorting.Rank(objectives, violations);
+            // The survivors are whole fronts plus part of the last, so their ranks are the ones just sorted; the
+            // crowding distances are measured again among the survivors.
+            ranks = [.. keep.Select(i => allRanks[i])];
             crowding = Sorting.Crowding(objectives, ranks);
         }
         return new Nsga2Result(points, objectives, violations, ranks, crowding, generation, evaluations);
@@ -312,12 +314,23 @@ public static class Sorting
         var distance = new double[count];
         if (count == 0) return distance;
         var objectiveCount = objectives[0].Length;
-        foreach (var group in Enumerable.Range(0, count).GroupBy(i => ranks[i]))
+        var fronts = new Dictionary<int, List<int>>();
+        for (var i = 0; i < count; i++)
         {
-            var members = group.ToArray();
+            if (!fronts.TryGetValue(ranks[i], out var members)) fronts[ranks[i]] = members = [];
+            members.Add(i);
+        }
+        foreach (var members in fronts.Values)
+        {
+            var sorted = members.ToArray();
             for (var m = 0; m < objectiveCount; m++)
             {
-                var sorted = members.OrderBy(i => objectives[i][m]).ThenBy(i => i).ToArray();
+                // By value, ties by position, so the order never depends on the sort's stability.
+                Array.Sort(sorted, (a, b) =>
+                {
+                    var byValue = objectives[a][m].CompareTo(objectives[b][m]);
+                    return byValue != 0 ? byValue : a.CompareTo(b);
+                });
                 var low = objectives[sorted[0]][m];
                 var high = objectives[sorted[^1]][m];
                 distance[sorted[0]] = distance[sorted[^1]] = double.PositiveInfinity;
