@@ -63,6 +63,18 @@ public sealed class DesignConstraints
         return true;
     }
 
+    /// <summary>How far a natural-units run misses the constraints, for searches that must walk back into the
+    /// feasible region: the sum over broken inequalities of the miss relative to the sides' size
+    /// (1 + |left| + |right|); 0 when every constraint holds, +∞ where a side is not a finite number.</summary>
+    public double Violation(ReadOnlySpan<double> natural)
+    {
+        if (_items.Length == 0) return 0;
+        var row = natural.ToArray();
+        var total = 0.0;
+        foreach (var item in _items) total += item.Miss(row);
+        return total;
+    }
+
     /// <summary>The texts of the constraints this natural-units run breaks.</summary>
     public IReadOnlyList<string> Violated(ReadOnlySpan<double> natural)
     {
@@ -95,13 +107,17 @@ public sealed class DesignConstraints
 
         public string Text { get; }
 
-        public bool Holds(double[] natural)
+        public bool Holds(double[] natural) => Miss(natural) == 0;
+
+        /// <summary>0 when the inequality holds (within the tolerance), else the miss over the sides' size.</summary>
+        public double Miss(double[] natural)
         {
             var left = _left(natural);
             var right = _right(natural);
-            if (!double.IsFinite(left) || !double.IsFinite(right)) return false;
-            var tolerance = RelativeTolerance * (1 + Math.Abs(left) + Math.Abs(right));
-            return _lessThan ? left <= right + tolerance : left >= right - tolerance;
+            if (!double.IsFinite(left) || !double.IsFinite(right)) return double.PositiveInfinity;
+            var size = 1 + Math.Abs(left) + Math.Abs(right);
+            var miss = _lessThan ? left - right : right - left;
+            return miss <= RelativeTolerance * size ? 0 : miss / size;
         }
 
         public static Inequality? TryCreate(string text, FactorSpace space, out string? error)

@@ -22,6 +22,23 @@ public interface IResponseSurrogate
 
     /// <summary>Predicts every row of <paramref name="codedPoints"/> (n × factor count) at once.</summary>
     Prediction Predict(Matrix<double> codedPoints);
+
+    /// <summary>The predicted means only. Sensitivity and optimisation call this in their hot loops; models whose
+    /// standard deviation costs much more than their mean (the Gaussian process) answer it on a faster path.</summary>
+    double[] PredictMean(Matrix<double> codedPoints) => Predict(codedPoints).Mean;
+}
+
+/// <summary>
+/// A surrogate that can take extra runs at fixed hyper-parameters, as the batch heuristics of expected improvement
+/// need (kriging believer and constant liar, Ginsbourger, Le Riche &amp; Carraro 2010): the fantasised values are added
+/// to the data and the model is solved again without re-estimating anything.
+/// </summary>
+public interface IConditionableSurrogate : IResponseSurrogate
+{
+    /// <summary>The same model with <paramref name="codedPoints"/> and their <paramref name="values"/> (response
+    /// units) added to its runs; null when this model cannot take them (for example when its part that carries the
+    /// uncertainty is not a Gaussian process, or the new covariance cannot be factorised).</summary>
+    IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values);
 }
 
 /// <summary>Predicted mean per point and, when the model has one, the standard deviation of the prediction.</summary>

@@ -1,4 +1,5 @@
 using System.Diagnostics;
+using static Runfold.Benchmarks.BenchmarkTools;
 using System.Globalization;
 using System.Text.Json;
 using MathNet.Numerics.LinearAlgebra;
@@ -15,8 +16,6 @@ namespace Runfold.Benchmarks;
 /// </summary>
 public static class ModelingBenchmarks
 {
-    private const string Python = "/usr/bin/python3";
-
     public static void Register()
     {
         BenchmarkRegistry.Register("gp-sklearn", "GP fit (5 restarts) + 10,000-point prediction on Borehole, Runfold vs scikit-learn, n = 80/300/1000", GaussianProcessVersusSklearn);
@@ -65,21 +64,6 @@ public static class ModelingBenchmarks
 
     private sealed record SklearnRun(double Seconds, double Rmse, string Kernel);
 
-    private static string RunPython(string scriptPath, params string[] args)
-    {
-        var start = new ProcessStartInfo(Python) { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
-        start.ArgumentList.Add(scriptPath);
-        foreach (var a in args) start.ArgumentList.Add(a);
-        using var process = Process.Start(start) ?? throw new InvalidOperationException($"{Python} did not start.");
-        var stdout = process.StandardOutput.ReadToEndAsync();
-        var stderr = process.StandardError.ReadToEndAsync();
-        process.WaitForExit();
-        if (process.ExitCode != 0) throw new InvalidOperationException($"scikit-learn side failed: {stderr.Result}");
-        return stdout.Result;
-    }
-
-    private static readonly JsonSerializerOptions Json = new() { PropertyNameCaseInsensitive = true };
-
     private static Matrix<double> Rows(double[][] rows) => Matrix<double>.Build.Dense(rows.Length, rows[0].Length, (i, j) => rows[i][j]);
 
     private static FactorSpace BoreholeSpace()
@@ -87,18 +71,6 @@ public static class ModelingBenchmarks
         var f = PublishedTestFunctions.Borehole;
         string[] names = ["rw", "r", "Tu", "Hu", "Tl", "Hl", "L", "Kw"];
         return FactorSpace.Create([.. names.Select((name, j) => new FactorSpec(name, Low: f.Lower[j], High: f.Upper[j]))]).Value!;
-    }
-
-    private static double Median(IEnumerable<double> values)
-    {
-        var sorted = values.OrderBy(v => v).ToArray();
-        return sorted.Length % 2 == 1 ? sorted[sorted.Length / 2] : (sorted[sorted.Length / 2 - 1] + sorted[sorted.Length / 2]) / 2;
-    }
-
-    private static int Option(string[] args, string name, int fallback)
-    {
-        var i = Array.IndexOf(args, name);
-        return i >= 0 && i + 1 < args.Length ? int.Parse(args[i + 1], CultureInfo.InvariantCulture) : fallback;
     }
 
     // --- Runfold vs scikit-learn ----------------------------------------------------------------------------

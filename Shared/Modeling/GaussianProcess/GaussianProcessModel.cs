@@ -1,5 +1,8 @@
 // Gaussian-process regression (kriging) with hyper-parameters by maximum likelihood (Rasmussen & Williams 2006, ch. 2
 // and 5; Jones, Schonlau & Welch 1998) and closed-form leave-one-out residuals (Dubrule 1983, Math. Geology 15(6)).
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
 using MathNet.Numerics.LinearAlgebra;
 using Runfold.Shared.Modeling.LinearAlgebra;
 using Runfold.Shared.Studies;
@@ -13,7 +16,8 @@ public static class GaussianProcessModel
     private const double LargestNugget = 1e-4;
 
     /// <summary>
-    /// Fits by maximum likelihood: the first start has every length scale at 1 (coded units), the
+    /// Fits by maximum likelihood: the first start has every length scale at 1 (coded units), or is
+    /// <see cref="GaussianProcessOptions.InitialLengthScales"/> followed by that one when restarts are asked for; the
     /// <see cref="GaussianProcessOptions.Restarts"/> further starts come from a seeded Latin hypercube over log
     /// length scales in [0.1, 20]; each runs the bounded quasi-Newton search with the analytic gradient, and the
     /// best end point wins.
@@ -42,6 +46,8 @@ public static class GaussianProcessModel
             upper[m] = Math.Log(options.NoiseRatioUpper);
         }
 
+        if (options.InitialLengthScales is { } initial && initial.Count != m)
+            throw new ArgumentException($"The model has {m} input columns but {initial.Count} initial length scales were given.", nameof(options));
         var starts = Starts(m, options, lower, upper);
         var nugget = Math.Max(options.Nugget, 0);
         var settings = new QuasiNewtonSettings(MaxIterations: options.MaxIterations);
@@ -92,9 +98,17 @@ public static class GaussianProcessModel
     private static List<double[]> Starts(int m, GaussianProcessOptions options, double[] lower, double[] upper)
     {
         var starts = new List<double[]>();
-        var first = new double[lower.Length];
-        if (options.Noisy) first[m] = Math.Log(1e-2);
-        starts.Add(first);
+        var ones = new double[lower.Length];
+        if (options.Noisy) ones[m] = Math.Log(1e-2);
+        if (options.InitialLengthScales is { } initial)
+        {
+            var warm = (double[])ones.Clone();
+            for (var k = 0; k < m; k++) warm[k] = Math.Clamp(Math.Log(initial[k]), lower[k], upper[k]);
+            starts.Add(warm);
+        }
+        // With a warm start and restarts asked for, the usual first start stays among them, so a warm start that sits
+        // in a poor optimum of the likelihood can still be left.
+        if (options.InitialLengthScales is null || options.Restarts > 0) starts.Add(ones);
         if (options.Restarts == 0) return starts;
         var random = new Random(options.Seed);
         var dimension = lower.Length;
@@ -122,16 +136,36 @@ public static class GaussianProcessModel
         return starts;
     }
 
+    /// <summary>
+    /// The same process with extra runs: hyper-parameters, trend form and the response's standardisation are kept,
+    /// only the covariance is factorised again (kriging believer and constant liar need exactly this). If the new
+    /// runs sit on old ones the nugget is raised step by step up to 1e-6; null when even that fails.
+    /// </summary>
+    internal static GaussianProcessSurrogate? WithRuns(GaussianProcessSurrogate fitted, Matrix<double> coded, IReadOnlyList<double> observed)
+    {
+        var problem = Problem.Create(fitted.Space, coded, observed, fitted.Options, fitted.Standardization);
+        if (fitted.Solution is not { } old) return problem.Constant();
+        var nugget = old.NoiseRatio;
+        while (true)
+        {
+            var solution = problem.Likelihood.Solve(old.LengthScales, nugget, old.SignalVariance);
+            if (solution is not null) return problem.Surrogate(solution, fitted.Options, fitted.HyperparametersEstimated);
+            if (nugget >= 1e-6) return null;
+            nugget = Math.Max(nugget * 100, 1e-10);
+        }
+    }
+
     /// <summary>The encoded training data of one fit.</summary>
     private sealed class Problem
     {
         private Problem(FactorSpace space, FactorEncoding encoding, TrendBasis trend, Standardization standardization,
-            IReadOnlyList<double> observed, GaussianProcessLikelihood likelihood)
+            Matrix<double> coded, IReadOnlyList<double> observed, GaussianProcessLikelihood likelihood)
         {
             Space = space;
             Encoding = encoding;
             Trend = trend;
             Standardization = standardization;
+            Coded = coded;
             Observed = observed;
             Likelihood = likelihood;
         }
@@ -140,10 +174,12 @@ public static class GaussianProcessModel
         public FactorEncoding Encoding { get; }
         public TrendBasis Trend { get; }
         public Standardization Standardization { get; }
+        public Matrix<double> Coded { get; }
         public IReadOnlyList<double> Observed { get; }
         public GaussianProcessLikelihood Likelihood { get; }
 
-        public static Problem Create(FactorSpace space, Matrix<double> coded, IReadOnlyList<double> observed, GaussianProcessOptions options)
+        public static Problem Create(FactorSpace space, Matrix<double> coded, IReadOnlyList<double> observed, GaussianProcessOptions options,
+            Standardization? standardization = null)
         {
             TrainingData.Check(space, coded, observed);
             if (coded.RowCount < 2) throw new ArgumentException("A Gaussian process needs at least two runs.", nameof(coded));
@@ -156,16 +192,16 @@ public static class GaussianProcessModel
             });
             if (trend.Count >= coded.RowCount)
                 throw new ArgumentException($"A {options.Trend.ToString().ToLowerInvariant()} trend has {trend.Count} coefficients and needs more than {trend.Count} runs; there are {coded.RowCount}.", nameof(coded));
-            var standardization = Standardization.Of(observed);
-            var y = observed.Select(standardization.Apply).ToArray();
+            var scaling = standardization ?? Standardization.Of(observed);
+            var y = observed.Select(scaling.Apply).ToArray();
             var likelihood = new GaussianProcessLikelihood(encoding.Encode(coded), encoding.ColumnCount, y, trend.Evaluate(coded), trend.Count, options.Kernel);
-            return new Problem(space, encoding, trend, standardization, [.. observed], likelihood);
+            return new Problem(space, encoding, trend, scaling, coded.Clone(), [.. observed], likelihood);
         }
 
-        public GaussianProcessSurrogate Constant() => new(Space, Encoding, Trend, Standardization, null, GaussianProcessOptions.Default, Observed, false);
+        public GaussianProcessSurrogate Constant() => new(Space, Encoding, Trend, Standardization, null, GaussianProcessOptions.Default, Coded, Observed, false);
 
         public GaussianProcessSurrogate Surrogate(GaussianProcessSolution solution, GaussianProcessOptions options, bool estimated) =>
-            new(Space, Encoding, Trend, Standardization, solution, options, Observed, estimated);
+            new(Space, Encoding, Trend, Standardization, solution, options, Coded, Observed, estimated);
     }
 }
 
@@ -173,7 +209,7 @@ public static class GaussianProcessModel
 /// A fitted Gaussian process. Predictions are the posterior mean and the standard deviation of the latent
 /// response (the estimated noise of a noisy response is not added), in the response's units.
 /// </summary>
-public sealed class GaussianProcessSurrogate : ISurrogateModel
+public sealed class GaussianProcessSurrogate : ISurrogateModel, IConditionableSurrogate
 {
     private const int Chunk = 128;
 
@@ -181,17 +217,23 @@ public sealed class GaussianProcessSurrogate : ISurrogateModel
     private readonly TrendBasis _trend;
     private readonly GaussianProcessSolution? _solution;
     private readonly double _constant;
+    private readonly Matrix<double> _runs;
+    private readonly IReadOnlyList<double> _observed;
+    private readonly MeanKernel? _meanKernel;
 
     internal GaussianProcessSurrogate(FactorSpace space, FactorEncoding encoding, TrendBasis trend, Standardization standardization,
-        GaussianProcessSolution? solution, GaussianProcessOptions options, IReadOnlyList<double> observed, bool estimated)
+        GaussianProcessSolution? solution, GaussianProcessOptions options, Matrix<double> runs, IReadOnlyList<double> observed, bool estimated)
     {
         Space = space;
         _encoding = encoding;
         _trend = trend;
         _solution = solution;
+        _runs = runs;
+        _observed = observed;
         Standardization = standardization;
         Options = options;
         HyperparametersEstimated = estimated;
+        if (solution is not null) _meanKernel = new MeanKernel(solution);
         var n = observed.Count;
         if (solution is null)
         {
@@ -246,6 +288,20 @@ public sealed class GaussianProcessSurrogate : ISurrogateModel
 
     /// <summary>Standard deviation of each leave-one-out prediction (response units).</summary>
     public IReadOnlyList<double> LeaveOneOutStandardDeviation { get; }
+
+    internal GaussianProcessSolution? Solution => _solution;
+
+    /// <summary>The process refitted at the same hyper-parameters with the extra runs added (kriging believer,
+    /// constant liar); null when the covariance cannot be factorised.</summary>
+    public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values)
+    {
+        ArgumentNullException.ThrowIfNull(codedPoints);
+        ArgumentNullException.ThrowIfNull(values);
+        if (codedPoints.RowCount != values.Count)
+            throw new ArgumentException($"There are {codedPoints.RowCount} points but {values.Count} values.", nameof(values));
+        if (codedPoints.RowCount == 0) return this;
+        return GaussianProcessModel.WithRuns(this, _runs.Stack(codedPoints), [.. _observed, .. values]);
+    }
 
     public static string KernelName(CovarianceKernel kernel) => kernel switch
     {
@@ -316,6 +372,43 @@ public sealed class GaussianProcessSurrogate : ISurrogateModel
         return new Prediction(mean, sd);
     }
 
+    /// <summary>The posterior mean without the variance: Σᵢ r(x, xᵢ)αᵢ plus the trend, vectorised over the runs and
+    /// spread over threads by blocks of points (each point is summed in one fixed order, so results do not depend on
+    /// the thread count).</summary>
+    public double[] PredictMean(Matrix<double> codedPoints)
+    {
+        ArgumentNullException.ThrowIfNull(codedPoints);
+        if (codedPoints.ColumnCount != Space.Count)
+            throw new ArgumentException($"The points have {codedPoints.ColumnCount} columns for {Space.Count} factors.", nameof(codedPoints));
+        var count = codedPoints.RowCount;
+        var mean = new double[count];
+        if (_solution is not { } s || _meanKernel is not { } kernel)
+        {
+            Array.Fill(mean, _constant);
+            return mean;
+        }
+        var blocks = (count + MeanKernel.Block - 1) / MeanKernel.Block;
+        void Run(int block)
+        {
+            var start = block * MeanKernel.Block;
+            var rows = Math.Min(MeanKernel.Block, count - start);
+            var features = new double[rows * s.Columns];
+            var trendRows = new double[rows * Math.Max(_trend.Count, 1)];
+            var scratch = new double[_trend.ScratchLength(rows)];
+            _encoding.Encode(codedPoints, start, rows, features);
+            _trend.Evaluate(codedPoints, start, rows, trendRows, scratch);
+            for (var r = 0; r < rows; r++)
+            {
+                var value = kernel.Sum(features.AsSpan(r * s.Columns, s.Columns));
+                for (var t = 0; t < _trend.Count; t++) value += trendRows[r * _trend.Count + t] * s.Beta[t];
+                mean[start + r] = Standardization.Undo(value);
+            }
+        }
+        if (blocks > 1 && (long)count * s.Count >= MeanKernel.ParallelWork) Parallel.For(0, blocks, Run);
+        else for (var b = 0; b < blocks; b++) Run(b);
+        return mean;
+    }
+
     private static void FillCross(GaussianProcessSolution s, double[] features, int rows, double[] scales, double[] cross)
     {
         var n = s.Count;
@@ -334,6 +427,80 @@ public sealed class GaussianProcessSurrogate : ISurrogateModel
                     d2 += h * h;
                 }
                 cross[r * n + i] = GaussianProcessLikelihood.Correlation(s.Kernel, d2);
+            }
+        }
+    }
+}
+
+/// <summary>
+/// Σᵢ r(‖x/ℓ − zᵢ‖²)·αᵢ with the runs' scaled features stored by column (padded to whole 256-bit vectors, padding
+/// weighted zero), so four runs are handled per step with vector square roots and exponentials.
+/// </summary>
+internal sealed class MeanKernel
+{
+    public const int Block = 256;
+    public const long ParallelWork = 1 << 19;
+
+    private readonly double[] _columns; // m × padded, column k holds zₖ of every run
+    private readonly double[] _alpha;   // padded with zeros
+    private readonly double[] _inverseScales;
+    private readonly int _padded, _m;
+    private readonly CovarianceKernel _kernel;
+
+    public MeanKernel(GaussianProcessSolution solution)
+    {
+        var n = solution.Count;
+        _m = solution.Columns;
+        _kernel = solution.Kernel;
+        _padded = (n + 3) / 4 * 4;
+        _columns = new double[_m * _padded];
+        for (var i = 0; i < n; i++)
+            for (var k = 0; k < _m; k++) _columns[k * _padded + i] = solution.ScaledFeatures[i * _m + k];
+        _alpha = new double[_padded];
+        Array.Copy(solution.Alpha, _alpha, n);
+        _inverseScales = [.. solution.LengthScales.Select(l => 1 / l)];
+    }
+
+    /// <summary>The kernel part of the mean at one encoded point (standardised units).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    public double Sum(ReadOnlySpan<double> features)
+    {
+        Span<double> point = stackalloc double[_m];
+        for (var k = 0; k < _m; k++) point[k] = features[k] * _inverseScales[k];
+        ref var columns = ref MemoryMarshal.GetArrayDataReference(_columns);
+        ref var alpha = ref MemoryMarshal.GetArrayDataReference(_alpha);
+        var sum = Vector256<double>.Zero;
+        for (var i = 0; i < _padded; i += 4)
+        {
+            var d2 = Vector256<double>.Zero;
+            for (var k = 0; k < _m; k++)
+            {
+                var h = Vector256.Create(point[k])
+                        - Vector256.LoadUnsafe(ref columns, (nuint)(k * _padded + i));
+                d2 = Vector256.FusedMultiplyAdd(h, h, d2);
+            }
+            var weights = Vector256.LoadUnsafe(ref alpha, (nuint)i);
+            sum = Vector256.FusedMultiplyAdd(Correlation(_kernel, d2), weights, sum);
+        }
+        return Vector256.Sum(sum);
+    }
+
+    private static Vector256<double> Correlation(CovarianceKernel kernel, Vector256<double> d2)
+    {
+        var one = Vector256.Create(1.0);
+        switch (kernel)
+        {
+            case CovarianceKernel.SquaredExponential:
+                return Vector256.Exp(d2 * -0.5);
+            case CovarianceKernel.Matern32:
+            {
+                var d = Vector256.Sqrt(d2 * 3.0);
+                return (one + d) * Vector256.Exp(-d);
+            }
+            default:
+            {
+                var d = Vector256.Sqrt(d2 * 5.0);
+                return (one + d + d * d * (1.0 / 3)) * Vector256.Exp(-d);
             }
         }
     }

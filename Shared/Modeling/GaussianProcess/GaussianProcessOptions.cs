@@ -45,6 +45,12 @@ public sealed record GaussianProcessOptions
 
     public int Seed { get; init; } = 1;
 
+    /// <summary>Where the first likelihood search starts: one length scale per encoded column (coded units), for
+    /// example those of the previous fit when a few runs were added (a warm start). With no restarts it is the only
+    /// start; with restarts the usual start (every length scale 1) and the random ones follow. Null: every length
+    /// scale 1.</summary>
+    public IReadOnlyList<double>? InitialLengthScales { get; init; }
+
     /// <summary>Noise variance over signal variance for deterministic responses.</summary>
     public double Nugget { get; init; } = 1e-12;
 
@@ -74,6 +80,8 @@ public sealed record GaussianProcessOptions
         if (!(NoiseRatioLower > 0 && NoiseRatioUpper > NoiseRatioLower))
             throw new ArgumentException("The noise bounds must be positive and increasing.", nameof(NoiseRatioLower));
         if (MaxIterations < 1) throw new ArgumentException("At least one iteration is needed.", nameof(MaxIterations));
+        if (InitialLengthScales is { } start && start.Any(l => !(l > 0) || !double.IsFinite(l)))
+            throw new ArgumentException("Initial length scales must be positive numbers.", nameof(InitialLengthScales));
     }
 }
 

@@ -401,6 +401,22 @@ public sealed class PolynomialSurrogate : ISurrogateModel
         return new Prediction(mean, sd);
     }
 
+    public double[] PredictMean(Matrix<double> codedPoints)
+    {
+        ArgumentNullException.ThrowIfNull(codedPoints);
+        var m = _encoding.ColumnCount;
+        var encoded = new double[m];
+        var mean = new double[codedPoints.RowCount];
+        for (var i = 0; i < mean.Length; i++)
+        {
+            _encoding.Encode(codedPoints, i, 1, encoded);
+            var value = 0.0;
+            for (var j = 0; j < Terms.Count; j++) value += Terms[j].Evaluate(encoded) * _beta[j];
+            mean[i] = value;
+        }
+        return mean;
+    }
+
     private static string Capitalised(string text) => char.ToUpperInvariant(text[0]) + text[1..];
 
     private static Func<double, double> StudentT(int df) =>

@@ -12,7 +12,7 @@ public sealed record EnsembleMember(ISurrogateModel Model, double Weight);
 /// A weighted average of surrogates. Its standard deviation mixes the members that have one with the spread of
 /// the member means: √(Σ wᵢσᵢ² / Σ wᵢ + Σ wᵢ(μᵢ − μ)²), the first sum over members with uncertainty.
 /// </summary>
-public sealed class EnsembleModel : ISurrogateModel
+public sealed class EnsembleModel : ISurrogateModel, IConditionableSurrogate
 {
     public const double Alpha = 0.05;
     public const double Beta = -1;
@@ -55,22 +55,53 @@ public sealed class EnsembleModel : ISurrogateModel
 
     public CrossValidatedPredictions CrossValidation { get; }
 
-    public Prediction Predict(Matrix<double> codedPoints)
+    public Prediction Predict(Matrix<double> codedPoints) =>
+        Mix([.. Members.Select(m => m.Model.Predict(codedPoints))], [.. Members.Select(m => m.Weight)], codedPoints.RowCount);
+
+    public double[] PredictMean(Matrix<double> codedPoints)
     {
-        var predictions = Members.Select(m => m.Model.Predict(codedPoints)).ToArray();
-        var count = codedPoints.RowCount;
-        var mean = new double[count];
+        var mean = new double[codedPoints.RowCount];
+        foreach (var member in Members)
+        {
+            var part = member.Model.PredictMean(codedPoints);
+            for (var i = 0; i < mean.Length; i++) mean[i] += member.Weight * part[i];
+        }
+        return mean;
+    }
+
+    /// <summary>The ensemble with each member that can take extra runs conditioned on them (the others unchanged);
+    /// null when no member can.</summary>
+    public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values)
+    {
+        var conditioned = new IResponseSurrogate[Members.Count];
+        var any = false;
         for (var k = 0; k < Members.Count; k++)
-            for (var i = 0; i < count; i++) mean[i] += Members[k].Weight * predictions[k].Mean[i];
-        if (!HasUncertainty) return new Prediction(mean, null);
+        {
+            var updated = Members[k].Model is IConditionableSurrogate c ? c.Condition(codedPoints, values) : null;
+            any |= updated is not null;
+            conditioned[k] = updated ?? Members[k].Model;
+        }
+        return any ? new WeightedSurrogates(Space, conditioned, [.. Members.Select(m => m.Weight)]) : null;
+    }
+
+    /// <summary>Weighted mean of the members and √(Σ wᵢσᵢ² / Σ wᵢ + Σ wᵢ(μᵢ − μ)²), the first sum over members
+    /// with uncertainty.</summary>
+    internal static Prediction Mix(Prediction[] predictions, double[] weights, int count)
+    {
+        var mean = new double[count];
+        for (var k = 0; k < predictions.Length; k++)
+            for (var i = 0; i < count; i++) mean[i] += weights[k] * predictions[k].Mean[i];
+        var uncertainWeight = 0.0;
+        for (var k = 0; k < predictions.Length; k++)
+            if (predictions[k].StandardDeviation is not null) uncertainWeight += weights[k];
+        if (uncertainWeight == 0) return new Prediction(mean, null);
         var sd = new double[count];
-        var uncertainWeight = Members.Where(m => m.Model.HasUncertainty).Sum(m => m.Weight);
         for (var i = 0; i < count; i++)
         {
             double within = 0, between = 0;
-            for (var k = 0; k < Members.Count; k++)
+            for (var k = 0; k < predictions.Length; k++)
             {
-                var w = Members[k].Weight;
+                var w = weights[k];
                 if (predictions[k].StandardDeviation is { } s) within += w * s[i] * s[i];
                 var d = predictions[k].Mean[i] - mean[i];
                 between += w * d * d;
@@ -83,11 +114,37 @@ public sealed class EnsembleModel : ISurrogateModel
     private static string Lower(string text) => text.Length > 0 ? char.ToLowerInvariant(text[0]) + text[1..] : text;
 }
 
+/// <summary>An ensemble whose members were conditioned on extra runs: the same weights and mixing.</summary>
+internal sealed class WeightedSurrogates(FactorSpace space, IResponseSurrogate[] members, double[] weights) : IConditionableSurrogate
+{
+    public FactorSpace Space { get; } = space;
+
+    public bool HasUncertainty => members.Any(m => m.HasUncertainty);
+
+    public Prediction Predict(Matrix<double> codedPoints) =>
+        EnsembleModel.Mix([.. members.Select(m => m.Predict(codedPoints))], weights, codedPoints.RowCount);
+
+    public double[] PredictMean(Matrix<double> codedPoints)
+    {
+        var mean = new double[codedPoints.RowCount];
+        for (var k = 0; k < members.Length; k++)
+        {
+            var part = members[k].PredictMean(codedPoints);
+            for (var i = 0; i < mean.Length; i++) mean[i] += weights[k] * part[i];
+        }
+        return mean;
+    }
+
+    public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values) =>
+        new WeightedSurrogates(Space,
+            [.. members.Select(m => (m is IConditionableSurrogate c ? c.Condition(codedPoints, values) : null) ?? m)], weights);
+}
+
 /// <summary>
 /// A model fitted to ln y, seen in the response's units: the prediction is the median exp(μ) and the standard
 /// deviation that of the log-normal, exp(μ)·√(exp(σ²) − 1).
 /// </summary>
-public sealed class LogResponseModel : ISurrogateModel
+public sealed class LogResponseModel : ISurrogateModel, IConditionableSurrogate
 {
     internal LogResponseModel(ISurrogateModel inner)
     {
@@ -108,14 +165,43 @@ public sealed class LogResponseModel : ISurrogateModel
 
     public CrossValidatedPredictions CrossValidation { get; }
 
-    public Prediction Predict(Matrix<double> codedPoints)
+    public Prediction Predict(Matrix<double> codedPoints) => FromLog(Inner.Predict(codedPoints));
+
+    public double[] PredictMean(Matrix<double> codedPoints) => [.. Inner.PredictMean(codedPoints).Select(v => Math.Exp(v))];
+
+    /// <summary>The inner model conditioned on ln of the values; null when a value is not positive or the inner
+    /// model cannot take extra runs.</summary>
+    public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values)
     {
-        var inner = Inner.Predict(codedPoints);
+        ArgumentNullException.ThrowIfNull(values);
+        if (Inner is not IConditionableSurrogate inner || values.Any(v => !(v > 0))) return null;
+        return inner.Condition(codedPoints, [.. values.Select(v => Math.Log(v))]) is { } conditioned ? new LogView(conditioned) : null;
+    }
+
+    internal static Prediction FromLog(Prediction inner)
+    {
         var mean = inner.Mean.Select(v => Math.Exp(v)).ToArray();
         if (inner.StandardDeviation is not { } s) return new Prediction(mean, null);
         var sd = new double[mean.Length];
         for (var i = 0; i < mean.Length; i++) sd[i] = mean[i] * Math.Sqrt(Math.Max(Math.Exp(s[i] * s[i]) - 1, 0));
         return new Prediction(mean, sd);
+    }
+
+    /// <summary>A conditioned model of ln y seen in the response's units.</summary>
+    private sealed class LogView(IResponseSurrogate inner) : IConditionableSurrogate
+    {
+        public FactorSpace Space => inner.Space;
+
+        public bool HasUncertainty => inner.HasUncertainty;
+
+        public Prediction Predict(Matrix<double> codedPoints) => FromLog(inner.Predict(codedPoints));
+
+        public double[] PredictMean(Matrix<double> codedPoints) => [.. inner.PredictMean(codedPoints).Select(v => Math.Exp(v))];
+
+        public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values) =>
+            inner is IConditionableSurrogate c && values.All(v => v > 0) && c.Condition(codedPoints, [.. values.Select(v => Math.Log(v))]) is { } next
+                ? new LogView(next)
+                : null;
     }
 }
 

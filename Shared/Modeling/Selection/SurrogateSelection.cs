@@ -75,7 +75,7 @@ public sealed record SurrogateSelectionResult(FittedSurrogate? Surrogate, Surrog
 /// The chosen surrogate of one response: the model, its fit check, its kind and the reason it was chosen, and
 /// every model that was compared. Immutable; predictions are in the response's units.
 /// </summary>
-public sealed class FittedSurrogate : IResponseSurrogate
+public sealed class FittedSurrogate : IConditionableSurrogate
 {
     internal FittedSurrogate(ISurrogateModel model, bool logResponse, FitCheck check, string reason, IReadOnlyList<ModelScore> compared)
     {
@@ -110,6 +110,13 @@ public sealed class FittedSurrogate : IResponseSurrogate
     public IReadOnlyList<ModelScore> Compared { get; }
 
     public Prediction Predict(Matrix<double> codedPoints) => Model.Predict(codedPoints);
+
+    public double[] PredictMean(Matrix<double> codedPoints) => Model.PredictMean(codedPoints);
+
+    /// <summary>The model with extra runs at fixed hyper-parameters, when it can take them (see
+    /// <see cref="IConditionableSurrogate"/>); null otherwise.</summary>
+    public IResponseSurrogate? Condition(Matrix<double> codedPoints, IReadOnlyList<double> values) =>
+        Model is IConditionableSurrogate c ? c.Condition(codedPoints, values) : null;
 }
 
 /// <summary>
