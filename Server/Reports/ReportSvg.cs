@@ -91,10 +91,10 @@ public static class ReportSvg
             var s = rows[i];
             var y = top + i * row;
             svg.Append(CultureInfo.InvariantCulture, $"""<text x="{label - 8}" y="{N(y + 15)}" text-anchor="end">{E($"{s.Factor} {AnalysisText.DirectionMark(s.Direction)}")}</text>""");
-            svg.Append(CultureInfo.InvariantCulture, $"""<rect x="{label}" y="{N(y + 4)}" width="{N(Sx(s.Total) - label)}" height="12" fill="{Ink}"><title>{E($"{s.Factor}: total {Formats.Number(s.Total)} ({Formats.Number(s.TotalLow)} – {Formats.Number(s.TotalHigh)}), first-order {Formats.Number(s.FirstOrder)}; {AnalysisText.Direction(s.Direction)} {response}")}</title></rect>""");
+            svg.Append(CultureInfo.InvariantCulture, $"""<rect x="{label}" y="{N(y + 4)}" width="{N(Sx(s.Total) - label)}" height="12" fill="{Ink}"><title>{E($"{s.Factor}: total {AnalysisText.Index(s.Total)} ({AnalysisText.Index(s.TotalLow)} – {AnalysisText.Index(s.TotalHigh)}), first-order {AnalysisText.Index(s.FirstOrder)}; {AnalysisText.Direction(s.Direction)} {response}")}</title></rect>""");
             svg.Append(CultureInfo.InvariantCulture, $"""<line x1="{N(Sx(s.TotalLow))}" y1="{N(y + 10)}" x2="{N(Sx(s.TotalHigh))}" y2="{N(y + 10)}" stroke="{Amber}" stroke-width="2"/>""");
             svg.Append(CultureInfo.InvariantCulture, $"""<rect x="{label}" y="{N(y + 19)}" width="{N(Sx(s.FirstOrder) - label)}" height="5" fill="{Teal}"/>""");
-            svg.Append(CultureInfo.InvariantCulture, $"""<text x="{N(width - right + 6)}" y="{N(y + 15)}">{E(Formats.Number(s.Total))}</text>""");
+            svg.Append(CultureInfo.InvariantCulture, $"""<text x="{N(width - right + 6)}" y="{N(y + 15)}">{E(AnalysisText.Index(s.Total))}</text>""");
         }
         return svg.Append("</svg>").ToString();
     }

@@ -39,12 +39,39 @@ public static class AnalysisText
         _ => ("fit-poor", "not to be trusted yet"),
     };
 
-    /// <summary>"0.412 ± 0.018 K/W", or without the ± when the model gives no spread.</summary>
+    /// <summary>"0.412 ± 0.018 K/W": the standard deviation to two significant digits and the mean to the same
+    /// decimal place (common practice for a value with its uncertainty); without the ± when the model gives no
+    /// spread.</summary>
     public static string Predicted(PredictedValueDto value, string? unit)
     {
         ArgumentNullException.ThrowIfNull(value);
-        var text = value.Sd is { } sd && double.IsFinite(sd) ? $"{Formats.Number(value.Mean)} ± {Formats.Number(sd)}" : Formats.Number(value.Mean);
+        string text;
+        if (value.Sd is { } sd && double.IsFinite(sd) && sd > 0 && double.IsFinite(value.Mean))
+        {
+            var decimals = 1 - (int)Math.Floor(Math.Log10(sd));
+            text = $"{Rounded(value.Mean, decimals)} ± {Rounded(sd, decimals)}";
+        }
+        else
+        {
+            text = Formats.Number(value.Mean);
+        }
         return unit is null ? text : $"{text} {unit}";
+    }
+
+    /// <summary>A Sobol' index (a share between 0 and 1) to two decimals.</summary>
+    public static string Index(double index) => double.IsFinite(index) ? index.ToString("0.00", CultureInfo.InvariantCulture) : "–";
+
+    /// <summary>A value rounded to <paramref name="decimals"/> places (negative: to tens, hundreds …), thousands
+    /// separated.</summary>
+    private static string Rounded(double value, int decimals)
+    {
+        if (decimals >= 0)
+        {
+            decimals = Math.Min(decimals, 12);
+            return Math.Round(value, decimals).ToString("N" + decimals.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+        }
+        var step = Math.Pow(10, -decimals);
+        return (Math.Round(value / step) * step).ToString("N0", CultureInfo.InvariantCulture);
     }
 
     /// <summary>A fraction as a percentage: "97 %", "0.4 %", "100 %".</summary>
