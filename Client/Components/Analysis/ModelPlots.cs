@@ -76,9 +76,10 @@ public static class ModelPlots
     public static (IList<ITrace> Data, PlotLayout Layout) MainEffect(MainEffectDto effect, FactorSpec? factor, string response, string? unit)
     {
         ArgumentNullException.ThrowIfNull(effect);
-        var layout = ChartStyle.NewLayout(200, left: 56, bottom: 44, top: 8);
+        var layout = ChartStyle.NewLayout(210, left: 56, bottom: 44, top: 8);
         layout.XAxis = [ChartStyle.XAxis(AnalysisText.Label(effect.Factor, factor?.Unit))];
-        layout.YAxis = [ChartStyle.YAxis(AnalysisText.Label(response, unit))];
+        // The panel names the response; the small charts' axes carry only its unit.
+        layout.YAxis = [ChartStyle.YAxis(unit is null ? "" : $"[{unit}]")];
         if (factor?.Kind == FactorKind.Categorical)
         {
             var levels = factor.Levels ?? [];
@@ -92,7 +93,7 @@ public static class ModelPlots
                     Y = ChartStyle.Values(effect.Mean),
                     ErrorY = new ErrorY { Array = ChartStyle.Values(effect.Spread), Color = ChartStyle.Teal, Thickness = 1.5m },
                     Marker = new Marker { Color = ChartStyle.Ink, Size = 9 },
-                    HoverTemplate = "%{x}: %{y}<extra></extra>",
+                    HoverTemplate = $"%{{x}}: {response} %{{y}}<extra></extra>",
                 },
             ], layout);
         }
@@ -123,7 +124,7 @@ public static class ModelPlots
                 X = ChartStyle.Values(effect.Natural),
                 Y = ChartStyle.Values(effect.Mean),
                 Line = new Line { Color = ChartStyle.Ink, Width = 2.5m },
-                HoverTemplate = "%{x}: %{y}<extra></extra>",
+                HoverTemplate = $"%{{x}}: {response} %{{y}}<extra></extra>",
             },
         ], layout);
     }

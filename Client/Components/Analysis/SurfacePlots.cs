@@ -9,8 +9,9 @@ namespace Runfold.Client.Components.Analysis;
 /// deviation (where the model is unsure).</summary>
 public static class SurfacePlots
 {
+    /// <param name="limit">The response's hard limit, drawn as a red contour line on the map of the prediction.</param>
     public static (IList<ITrace> Data, PlotLayout Layout) Build(SurfaceGrid grid, Runfold.Shared.Studies.FactorSpec x, Runfold.Shared.Studies.FactorSpec y,
-        string response, string? unit, double[][] mean, double[][] sd, bool contour, bool uncertainty)
+        string response, string? unit, double[][] mean, double[][] sd, bool contour, bool uncertainty, double? limit = null)
     {
         ArgumentNullException.ThrowIfNull(grid);
         ArgumentNullException.ThrowIfNull(x);
@@ -28,7 +29,7 @@ public static class SurfacePlots
             layout.YAxis = [ChartStyle.YAxis(AnalysisText.Label(y.Name, y.Unit))];
             if (x.Scale == Runfold.Shared.Studies.FactorScale.Log) layout.XAxis[0].Type = Plotly.Blazor.LayoutLib.XAxisLib.TypeEnum.Log;
             if (y.Scale == Runfold.Shared.Studies.FactorScale.Log) layout.YAxis[0].Type = Plotly.Blazor.LayoutLib.YAxisLib.TypeEnum.Log;
-            return (
+            IList<ITrace> traces =
             [
                 new Contour
                 {
@@ -36,11 +37,30 @@ public static class SurfacePlots
                     Y = ys,
                     Z = Rows(shown),
                     ColorScale = ChartStyle.Sequential,
-                    Contours = new Plotly.Blazor.Traces.ContourLib.Contours { ShowLabels = true, LabelFont = new Plotly.Blazor.Traces.ContourLib.ContoursLib.LabelFont { Color = "#ffffff", Size = 11 } },
                     ColorBar = new Plotly.Blazor.Traces.ContourLib.ColorBar { Title = new Plotly.Blazor.Traces.ContourLib.ColorBarLib.Title { Text = colourTitle, Side = Plotly.Blazor.Traces.ContourLib.ColorBarLib.TitleLib.SideEnum.Right }, Thickness = 14 },
                     HoverTemplate = $"{x.Name} %{{x}}<br>{y.Name} %{{y}}<br>{(uncertainty ? "sd" : response)} %{{z}}<extra></extra>",
                 },
-            ], layout);
+            ];
+            if (limit is { } at && !uncertainty)
+            {
+                traces.Add(new Contour
+                {
+                    X = xs,
+                    Y = ys,
+                    Z = Rows(mean),
+                    ShowScale = false,
+                    Contours = new Plotly.Blazor.Traces.ContourLib.Contours
+                    {
+                        Coloring = Plotly.Blazor.Traces.ContourLib.ContoursLib.ColoringEnum.Lines,
+                        Start = (decimal)at, End = (decimal)at, Size = 1, ShowLabels = true,
+                        LabelFont = new Plotly.Blazor.Traces.ContourLib.ContoursLib.LabelFont { Color = ChartStyle.Brick, Size = 12 },
+                    },
+                    ColorScale = new object[][] { [0.0, ChartStyle.Brick], [1.0, ChartStyle.Brick] },
+                    Line = new Plotly.Blazor.Traces.ContourLib.Line { Width = 2.5m, Dash = "dash" },
+                    HoverInfo = Plotly.Blazor.Traces.ContourLib.HoverInfoFlag.Skip,
+                });
+            }
+            return (traces, layout);
         }
 
         var scene = new Scene
