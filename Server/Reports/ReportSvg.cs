@@ -1,5 +1,6 @@
 using System.Globalization;
-using System.Net;
+using System.Text.Encodings.Web;
+using System.Text.Unicode;
 using System.Text;
 using Runfold.Client.Components;
 using Runfold.Client.Components.Analysis;
@@ -44,7 +45,7 @@ public static class ReportSvg
         const double size = 280, left = 52, bottom = 40, top = 12, right = 12;
         var all = check.Observed.Concat(check.Predicted).Where(double.IsFinite).ToList();
         var (lo, hi) = all.Count == 0 ? (0.0, 1.0) : Pad(all.Min(), all.Max());
-        var ticks = NiceTicks(lo, hi, 5);
+        var ticks = NiceTicks(lo, hi, 5).Where(t => t >= lo && t <= hi).ToList();
         double Sx(double v) => left + (v - lo) / (hi - lo) * (size - left - right);
         double Sy(double v) => size - bottom - (v - lo) / (hi - lo) * (size - top - bottom);
 
@@ -106,10 +107,11 @@ public static class ReportSvg
         var raw = (hi - lo) / Math.Max(1, count);
         var power = Math.Pow(10, Math.Floor(Math.Log10(raw)));
         var step = new[] { 1.0, 2, 5, 10 }.Select(m => m * power).First(s => s >= raw * 0.999);
+        // Whole multiples of the step, so no sum of steps drifts off the round values.
+        var first = (long)Math.Ceiling(lo / step - 1e-9);
+        var last = (long)Math.Ceiling(hi / step - 1e-9);
         var ticks = new List<double>();
-        for (var t = Math.Ceiling(lo / step - 1e-9) * step; t <= hi + step * 1e-9; t += step)
-            ticks.Add(Math.Abs(t) < step * 1e-9 ? 0 : Math.Round(t, 12));
-        if (ticks.Count == 0 || ticks[^1] < hi - step * 1e-9) ticks.Add(Math.Ceiling(hi / step) * step);
+        for (var k = first; k <= last; k++) ticks.Add(Math.Round(k * step, 12));
         return ticks;
     }
 
@@ -127,5 +129,7 @@ public static class ReportSvg
 
     private static string N(double value) => value.ToString("0.##", CultureInfo.InvariantCulture);
 
-    private static string E(string text) => WebUtility.HtmlEncode(text);
+    private static string E(string text) => Html.Encode(text);
+
+    private static readonly HtmlEncoder Html = HtmlEncoder.Create(UnicodeRanges.All);
 }

@@ -1,5 +1,6 @@
 using System.Globalization;
-using System.Net;
+using System.Text.Encodings.Web;
+using System.Text.Unicode;
 using System.Text;
 using Runfold.Client.Components;
 using Runfold.Client.Components.Analysis;
@@ -35,7 +36,7 @@ public static class StudyReportWriter
             : E($"Analysis {snapshot.Version}, {AnalysisText.BasedOn(snapshot)}, computed {Formats.Instant(snapshot.ComputedAt)}."));
         html.Append("</p>\n</header>\n");
 
-        html.Append("<section class=\"caution\" id=\"caution\">\n<h2>Read this first</h2>\n<p>").Append(E(AnalysisText.CandidateCaution))
+        html.Append("<section id=\"caution\" class=\"caution\">\n<h2>Read this first</h2>\n<p>").Append(E(AnalysisText.CandidateCaution))
             .Append("</p>\n<p><strong>").Append(E(AnalysisText.EngineeringCaution)).Append("</strong></p>\n</section>\n");
 
         WriteProgress(html, study);
@@ -187,7 +188,10 @@ public static class StudyReportWriter
 
     private static string? Unit(StudyDetail study, string response) => study.Responses.FirstOrDefault(r => r.Name == response)?.Unit;
 
-    private static string E(string? text) => WebUtility.HtmlEncode(text ?? "");
+    private static string E(string? text) => Html.Encode(text ?? "");
+
+    /// <summary>Encodes markup characters only, so units and signs (±, ≤, °C) stay readable in the file.</summary>
+    private static readonly HtmlEncoder Html = HtmlEncoder.Create(UnicodeRanges.All);
 
     // The look of the pages (ink-blue, warm paper, amber, teal), printable.
     private const string Style = """
