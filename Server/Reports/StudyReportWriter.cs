@@ -90,24 +90,32 @@ public static class StudyReportWriter
             return;
         }
         var limited = study.Responses.Where(r => AnalysisText.Limit(r) is not null).ToList();
-        html.Append("<div class=\"scroll\"><table>\n<thead><tr><th>Rank</th><th>Status</th>");
-        foreach (var f in study.Factors) html.Append("<th>").Append(E(AnalysisText.Label(f.Name, f.Unit))).Append("</th>");
-        foreach (var r in study.Responses) html.Append("<th>").Append(E(r.Name)).Append(" <span class=\"muted\">predicted</span></th>");
+        // Two tables, so each fits a printed page: the predictions, then the designs themselves.
+        html.Append("<div class=\"scroll\"><table>\n<thead><tr><th>Rank</th><th>Status</th><th>Desirability</th>");
+        foreach (var r in study.Responses) html.Append("<th>").Append(E(AnalysisText.Label(r.Name, r.Unit))).Append("</th>");
         foreach (var r in limited) html.Append("<th>").Append(E($"P({r.Name} {AnalysisText.Limit(r)})")).Append("</th>");
-        html.Append("<th>Desirability</th></tr></thead>\n<tbody>\n");
+        html.Append("</tr></thead>\n<tbody>\n");
         foreach (var candidate in top)
         {
             html.Append("<tr><th>").Append(candidate.Rank.ToString(CultureInfo.InvariantCulture)).Append("</th><td>");
             foreach (var (css, word, why) in CandidateStatus.Badges(candidate))
                 html.Append("<span class=\"badge ").Append(css).Append("\" title=\"").Append(E(why)).Append("\">").Append(E(word)).Append("</span> ");
-            html.Append("</td>");
-            foreach (var f in study.Factors)
-                html.Append("<td class=\"num\">").Append(candidate.Factors.TryGetValue(f.Name, out var v) ? E(Formats.Value(v)) : "–").Append("</td>");
+            html.Append("</td><td class=\"num\">").Append(E(Formats.Number(candidate.Desirability))).Append("</td>");
             foreach (var r in study.Responses)
-                html.Append("<td class=\"num\">").Append(candidate.Predicted.TryGetValue(r.Name, out var p) ? E(AnalysisText.Predicted(p, r.Unit)) : "–").Append("</td>");
+                html.Append("<td class=\"num\">").Append(candidate.Predicted.TryGetValue(r.Name, out var p) ? E(AnalysisText.Predicted(p, null)) : "–").Append("</td>");
             foreach (var r in limited)
                 html.Append("<td class=\"num\">").Append(candidate.LimitProbabilities?.TryGetValue(r.Name, out var pr) == true ? E(AnalysisText.Percent(pr)) : "–").Append("</td>");
-            html.Append("<td class=\"num\">").Append(E(Formats.Number(candidate.Desirability))).Append("</td></tr>\n");
+            html.Append("</tr>\n");
+        }
+        html.Append("</tbody></table></div>\n<h3>The designs</h3>\n<div class=\"scroll\"><table>\n<thead><tr><th>Rank</th>");
+        foreach (var f in study.Factors) html.Append("<th>").Append(E(AnalysisText.Label(f.Name, f.Unit))).Append("</th>");
+        html.Append("</tr></thead>\n<tbody>\n");
+        foreach (var candidate in top)
+        {
+            html.Append("<tr><td>").Append(candidate.Rank.ToString(CultureInfo.InvariantCulture)).Append("</td>");
+            foreach (var f in study.Factors)
+                html.Append("<td class=\"num\">").Append(candidate.Factors.TryGetValue(f.Name, out var v) ? E(Formats.Value(v)) : "–").Append("</td>");
+            html.Append("</tr>\n");
         }
         html.Append("</tbody></table></div>\n<p class=\"muted\">")
             .Append(E("± is one standard deviation of the surrogate's prediction; about 95 % of outcomes fall within two. " +
@@ -199,14 +207,15 @@ public static class StudyReportWriter
         main { max-width: 1100px; margin: 0 auto; padding: 1.5rem; }
         h1 { color: #16324f; font-size: 1.7rem; margin: 0.2rem 0 0.4rem; }
         h2 { color: #16324f; font-size: 1.15rem; margin: 0 0 0.6rem; }
+        h3 { color: #16324f; font-size: 0.98rem; margin: 1rem 0 0.4rem; }
         section { background: #fff; border: 1px solid #dcd7cc; border-radius: 8px; padding: 1rem 1.2rem; margin: 1rem 0; }
         .brand { color: #5f6b76; font-weight: 600; letter-spacing: 0.03em; margin: 0; }
         .lead, .meta, .muted { color: #5f6b76; }
         .caution { border-left: 5px solid #f2b134; background: #fffaf0; }
         .notice { background: #fcebc7; padding: 0.5rem 0.8rem; border-radius: 6px; }
         table { border-collapse: collapse; font-size: 0.9rem; margin: 0.3rem 0; }
-        th, td { text-align: left; padding: 0.3rem 0.6rem; border-bottom: 1px solid #ece8df; white-space: nowrap; vertical-align: top; }
-        thead th { color: #5f6b76; font-weight: 600; background: #faf9f6; }
+        th, td { text-align: left; padding: 0.3rem 0.45rem; border-bottom: 1px solid #ece8df; white-space: nowrap; vertical-align: top; }
+        thead th { color: #5f6b76; font-weight: 600; background: #faf9f6; white-space: normal; vertical-align: bottom; }
         td.num { text-align: right; font-variant-numeric: tabular-nums; }
         .scroll { overflow-x: auto; }
         .columns { display: flex; flex-wrap: wrap; gap: 2rem; }

@@ -47,6 +47,7 @@ public sealed class ShareLinkTests : IAsyncLifetime
         using var anonymous = _app.ClientWithToken(null);
         var response = await anonymous.GetAsync(path);
         Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.True(response.Headers.CacheControl?.NoStore, "A share link's page must not be cached: a revoked link would come back from the cache.");
         return await response.Content.ReadAsStringAsync();
     }
 
