@@ -93,6 +93,7 @@ public sealed class AnalysisPagesTests : IAsyncLifetime
         await lead.ClickAsync("#create-share-link");
         var url = lead.Locator("input.share-url").First;
         await Assertions.Expect(url).ToHaveValueAsync(new Regex("/shared/"));
+        await Assertions.Expect(lead.Locator(".pareto .js-plotly-plot")).ToBeAttachedAsync(new() { Timeout = 20_000 });
         var link = await url.InputValueAsync();
         await Assertions.Expect(lead.Locator(".share-link-list")).ToContainTextAsync("design review <board>");
         await ChromiumBrowser.ScreenshotAsync(lead, "summary-with-share-links-1280");
@@ -105,6 +106,8 @@ public sealed class AnalysisPagesTests : IAsyncLifetime
         await Assertions.Expect(shared.Locator("h1")).ToHaveTextAsync(_study.Name);
         await Assertions.Expect(shared.Locator("table.candidates tbody tr")).ToHaveCountAsync(5);
         await Assertions.Expect(shared.Locator(".study-nav")).ToHaveCountAsync(0);
+        await Assertions.Expect(shared.Locator(".pareto .js-plotly-plot")).ToBeAttachedAsync(new() { Timeout = 20_000 });
+        await shared.WaitForTimeoutAsync(600);
         await Assertions.Expect(shared.Locator("text=Sign out")).ToHaveCountAsync(0);
         await ChromiumBrowser.ScreenshotAsync(shared, "shared-summary-1280");
 

@@ -146,12 +146,13 @@ public static class CandidatePlots
             });
         }
 
-        var layout = ChartStyle.NewLayout(380, left: 24, right: 24, top: 30, bottom: 70);
+        var layout = ChartStyle.NewLayout(400, left: 24, right: 24, top: 30, bottom: 86);
         layout.HoverMode = HoverModeEnum.Closest;
         var x = ChartStyle.XAxis("");
         x.TickMode = Plotly.Blazor.LayoutLib.XAxisLib.TickModeEnum.Array;
         x.TickVals = xs;
-        x.TickText = [.. axes.Select(a => (object)a.Title.Replace(" [", "<br>[", StringComparison.Ordinal))];
+        // Axis names break after underscores and before the unit, so neighbouring labels do not run together.
+        x.TickText = [.. axes.Select(a => (object)a.Title.Replace("_", "_<br>", StringComparison.Ordinal).Replace(" [", "<br>[", StringComparison.Ordinal))];
         x.ShowGrid = false;
         x.TickAngle = 0;
         x.ZeroLine = false;
