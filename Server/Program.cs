@@ -3,8 +3,10 @@ using Runfold.Server.Auth;
 using Runfold.Server.Data;
 using Runfold.Server.Designs;
 using Runfold.Server.Hosting;
+using Runfold.Server.Reports;
 using Runfold.Server.Results;
 using Runfold.Server.Runs;
+using Runfold.Server.Sharing;
 using Runfold.Server.Studies;
 using Runfold.Server.Telemetry;
 using Scalar.AspNetCore;
@@ -29,6 +31,8 @@ builder.Services.AddRuns();
 builder.Services.AddDesigns();
 builder.Services.AddResults();
 builder.Services.AddRunfoldPages();
+builder.Services.AddSharing();
+builder.Services.AddReports();
 builder.AddRunfoldTelemetry();
 
 var app = builder.Build();
@@ -52,6 +56,8 @@ app.MapRunsApi();
 app.MapDesignsApi();
 app.MapResultsApi();
 app.MapAccountApi();
+app.MapSharingApi();
+app.MapReportsApi();
 app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
 
 await app.RunAsync();

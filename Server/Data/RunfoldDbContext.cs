@@ -41,6 +41,8 @@ public abstract class RunfoldDbContext(DbContextOptions options)
 
     public DbSet<AnalysisSnapshot> AnalysisSnapshots => Set<AnalysisSnapshot>();
 
+    public DbSet<Sharing.ShareLink> ShareLinks => Set<Sharing.ShareLink>();
+
     public abstract StorageProvider Provider { get; }
 
     protected override void OnModelCreating(ModelBuilder builder)

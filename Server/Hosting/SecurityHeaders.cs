@@ -21,7 +21,9 @@ public static class SecurityHeaders
             headers["Cross-Origin-Opener-Policy"] = "same-origin";
             if (!context.Request.Path.StartsWithSegments("/api-docs"))
                 headers.ContentSecurityPolicy = ContentSecurityPolicy;
-            if (context.Request.Path.StartsWithSegments("/api") || context.Request.Path.StartsWithSegments("/auth"))
+            // A share link's page is not kept either: once revoked, it must not come back from a cache.
+            if (context.Request.Path.StartsWithSegments("/api") || context.Request.Path.StartsWithSegments("/auth")
+                || context.Request.Path.StartsWithSegments("/shared"))
                 headers.CacheControl = "no-store";
             return Task.CompletedTask;
         });

@@ -108,7 +108,8 @@ public sealed class StudyService(RunfoldDbContext db, TimeProvider time, Runfold
         return Outcome<StudyDetail>.Ok(detail with { Runs = runs, YourRole = StudyRole.Lead });
     }
 
-    private async Task<StudyDetail> LoadDetailAsync(int studyId, CancellationToken cancellationToken)
+    /// <summary>The study with its definition, counts and members, without a role check (callers check).</summary>
+    internal async Task<StudyDetail> LoadDetailAsync(int studyId, CancellationToken cancellationToken)
     {
         var study = await db.Studies.AsNoTracking().AsSplitQuery()
             .Include(s => s.Factors)

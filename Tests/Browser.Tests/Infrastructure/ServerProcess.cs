@@ -26,6 +26,9 @@ public sealed class ServerProcess : IAsyncDisposable
 
     public Uri Address { get; }
 
+    /// <summary>The embedded store's folder (RUNFOLD_DATA): tests may write rows the server then reads.</summary>
+    public string DataFolder => _dataFolder;
+
     /// <summary>Everything the server printed so far.</summary>
     public string Output { get { lock (_output) return _output.ToString(); } }
 

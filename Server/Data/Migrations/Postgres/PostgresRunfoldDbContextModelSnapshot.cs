@@ -986,6 +986,59 @@ namespace Runfold.Server.Data.Migrations.Postgres
                     b.ToTable("waves", (string)null);
                 });
 
+            modelBuilder.Entity("Runfold.Server.Sharing.ShareLink", b =>
+                {
+                    b.Property<int>("Id")
+                        .ValueGeneratedOnAdd()
+                        .HasColumnType("integer")
+                        .HasColumnName("id");
+
+                    NpgsqlPropertyBuilderExtensions.UseIdentityByDefaultColumn(b.Property<int>("Id"));
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("created_at");
+
+                    b.Property<Guid>("CreatedById")
+                        .HasColumnType("uuid")
+                        .HasColumnName("created_by_id");
+
+                    b.Property<DateTimeOffset>("ExpiresAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("expires_at");
+
+                    b.Property<string>("Note")
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)")
+                        .HasColumnName("note");
+
+                    b.Property<DateTimeOffset?>("RevokedAt")
+                        .HasColumnType("timestamp with time zone")
+                        .HasColumnName("revoked_at");
+
+                    b.Property<Guid?>("RevokedById")
+                        .HasColumnType("uuid")
+                        .HasColumnName("revoked_by_id");
+
+                    b.Property<int>("StudyId")
+                        .HasColumnType("integer")
+                        .HasColumnName("study_id");
+
+                    b.HasKey("Id")
+                        .HasName("pk_share_links");
+
+                    b.HasIndex("CreatedById")
+                        .HasDatabaseName("ix_share_links_created_by_id");
+
+                    b.HasIndex("RevokedById")
+                        .HasDatabaseName("ix_share_links_revoked_by_id");
+
+                    b.HasIndex("StudyId")
+                        .HasDatabaseName("ix_share_links_study_id");
+
+                    b.ToTable("share_links", (string)null);
+                });
+
             modelBuilder.Entity("Microsoft.AspNetCore.Identity.IdentityRoleClaim<System.Guid>", b =>
                 {
                     b.HasOne("Microsoft.AspNetCore.Identity.IdentityRole<System.Guid>", null)
@@ -1202,6 +1255,29 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .OnDelete(DeleteBehavior.Cascade)
                         .IsRequired()
                         .HasConstraintName("fk_waves_studies_study_id");
+                });
+
+            modelBuilder.Entity("Runfold.Server.Sharing.ShareLink", b =>
+                {
+                    b.HasOne("Runfold.Server.Data.Entities.RunfoldUser", null)
+                        .WithMany()
+                        .HasForeignKey("CreatedById")
+                        .OnDelete(DeleteBehavior.Restrict)
+                        .IsRequired()
+                        .HasConstraintName("fk_share_links_users_created_by_id");
+
+                    b.HasOne("Runfold.Server.Data.Entities.RunfoldUser", null)
+                        .WithMany()
+                        .HasForeignKey("RevokedById")
+                        .OnDelete(DeleteBehavior.Restrict)
+                        .HasConstraintName("fk_share_links_users_revoked_by_id");
+
+                    b.HasOne("Runfold.Server.Data.Entities.Study", null)
+                        .WithMany()
+                        .HasForeignKey("StudyId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired()
+                        .HasConstraintName("fk_share_links_studies_study_id");
                 });
 
             modelBuilder.Entity("Runfold.Server.Data.Entities.Study", b =>
