@@ -1,8 +1,10 @@
 using Runfold.Client;
+using Runfold.Server.Analysis;
 using Runfold.Server.Auth;
 using Runfold.Server.Data;
 using Runfold.Server.Designs;
 using Runfold.Server.Hosting;
+using Runfold.Server.Live;
 using Runfold.Server.Results;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
@@ -28,6 +30,8 @@ builder.Services.AddStudies();
 builder.Services.AddRuns();
 builder.Services.AddDesigns();
 builder.Services.AddResults();
+builder.Services.AddLive(settings);
+builder.Services.AddAnalysis(settings);
 builder.Services.AddRunfoldPages();
 builder.AddRunfoldTelemetry();
 
@@ -51,6 +55,8 @@ app.MapStudiesApi();
 app.MapRunsApi();
 app.MapDesignsApi();
 app.MapResultsApi();
+app.MapAnalysisApi();
+app.MapStudyEventsApi();
 app.MapAccountApi();
 app.MapRazorComponents<App>().AddInteractiveServerRenderMode();
 
