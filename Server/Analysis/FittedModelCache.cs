@@ -15,23 +15,34 @@ public sealed record SnapshotModels(int StudyId, int Version, FactorSpace Space,
 /// The latest snapshot's fitted models of each study, in memory, so a prediction costs only the prediction. The
 /// instance that computes a snapshot puts its models here; any other instance (or this one after a restart)
 /// rebuilds them on first use from the snapshot's stored recipes and the exact result revisions they were fitted
-/// to (<see cref="RefitMode.Rebuild"/>: milliseconds per response, no search).
+/// to (<see cref="RefitMode.Rebuild"/>: milliseconds per response, no search). A study's models nobody used for
+/// <see cref="Unused"/> are dropped (a Gaussian process of a few hundred runs holds megabytes) and rebuilt when
+/// next asked for.
 /// </summary>
-public sealed class FittedModelCache(IDbContextFactory<RunfoldDbContext> contexts, FactorSpaces spaces)
+public sealed class FittedModelCache(IDbContextFactory<RunfoldDbContext> contexts, FactorSpaces spaces, TimeProvider time)
 {
-    private readonly ConcurrentDictionary<int, SnapshotModels> _latest = new();
+    public static readonly TimeSpan Unused = TimeSpan.FromMinutes(30);
+
+    private readonly ConcurrentDictionary<int, Entry> _latest = new();
     private readonly ConcurrentDictionary<(int StudyId, int Version), Lazy<Task<SnapshotModels?>>> _building = new();
 
     public void Put(SnapshotModels models)
     {
         ArgumentNullException.ThrowIfNull(models);
-        _latest.AddOrUpdate(models.StudyId, models, (_, old) => models.Version >= old.Version ? models : old);
+        var now = time.GetUtcNow();
+        _latest.AddOrUpdate(models.StudyId, new Entry(models, now), (_, old) => models.Version >= old.Models.Version ? new Entry(models, now) : old);
+        foreach (var (studyId, entry) in _latest)
+            if (now - entry.LastUsed > Unused) _latest.TryRemove(KeyValuePair.Create(studyId, entry));
     }
 
     /// <summary>The models of the given snapshot version; null when that snapshot has no stored models.</summary>
     public async Task<SnapshotModels?> GetAsync(int studyId, int version, CancellationToken cancellationToken)
     {
-        if (_latest.TryGetValue(studyId, out var cached) && cached.Version == version) return cached;
+        if (_latest.TryGetValue(studyId, out var cached) && cached.Models.Version == version)
+        {
+            cached.LastUsed = time.GetUtcNow();
+            return cached.Models;
+        }
         var building = _building.GetOrAdd((studyId, version), key => new Lazy<Task<SnapshotModels?>>(() => RebuildAsync(key.StudyId, key.Version)));
         try
         {
@@ -43,6 +54,13 @@ public sealed class FittedModelCache(IDbContextFactory<RunfoldDbContext> context
         {
             if (building.IsValueCreated && building.Value.IsCompleted) _building.TryRemove(KeyValuePair.Create((studyId, version), building));
         }
+    }
+
+    private sealed class Entry(SnapshotModels models, DateTimeOffset lastUsed)
+    {
+        public SnapshotModels Models { get; } = models;
+
+        public DateTimeOffset LastUsed { get; set; } = lastUsed;
     }
 
     /// <summary>Rebuilds without the caller's cancellation: several requests may wait for the same rebuild.</summary>

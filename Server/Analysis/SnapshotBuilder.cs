@@ -16,7 +16,7 @@ public sealed record StoredSnapshot(AnalysisSnapshotDto Snapshot, ModelChoices C
 
 /// <summary>
 /// Builds a snapshot in explicit stages, each reported as progress: "reading runs", "fitting &lt;response&gt;" per
-/// response (or "comparing models: &lt;response&gt;" in a background comparison), then every registered
+/// response (or "comparing every model for &lt;response&gt;" in a background comparison), then every registered
 /// <see cref="IAnalysisStage"/> ("sensitivity", "candidates"), then "storing". The coordinator decides per response
 /// whether the kept choice is refitted or every model is compared again.
 /// </summary>
@@ -30,7 +30,7 @@ public sealed partial class SnapshotBuilder(
 {
     public const string Reading = "reading runs";
     public const string Fitting = "fitting";
-    public const string Comparing = "comparing models:";
+    public const string Comparing = "comparing every model for";
     public const string Storing = "storing";
 
     private readonly IReadOnlyList<IAnalysisStage> _stages = [.. stages];

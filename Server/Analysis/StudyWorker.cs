@@ -208,13 +208,16 @@ internal sealed partial class StudyWorker(int studyId, AnalysisCoordinator.Worke
     {
         using var cancel = CancellationTokenSource.CreateLinkedTokenSource(stopping);
         bool rechoose;
+        long wanted;
         lock (_gate)
         {
             (_running, _runningVersion, _batchSince, _pendingSince) = (cancel, long.MaxValue, _pendingSince, null);
             (_immediate, _sweep) = (false, false);
             (rechoose, _rechoose) = (_rechoose, false);
+            wanted = _wanted;
         }
-        var progress = new RefitProgress(parts.Live, studyId, Options.ProgressAfter);
+        // Until its runs are read, the refit works on the newest result-set version this instance has heard of.
+        var progress = new RefitProgress(parts.Live, studyId, Options.ProgressAfter) { ResultSetVersion = wanted };
         var started = Stopwatch.GetTimestamp();
         parts.Statistics.Started();
         AnalysisInput? input = null;

@@ -26,5 +26,6 @@ public static class BenchmarkRegistry
         DoeBenchmarks.Register();
         ClaimsBenchmark.Register();
         ModelingBenchmarks.Register();
+        AnalysisLatencyBenchmark.Register();
     }
 }

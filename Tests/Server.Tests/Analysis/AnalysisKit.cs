@@ -75,4 +75,16 @@ public static class AnalysisKit
         await using var db = app.Db();
         return db.Studies.Where(s => s.Id == studyId).Select(s => s.ResultSetVersion).First();
     }
+
+    /// <summary>Polls until <paramref name="condition"/> holds (or fails after <see cref="Patience"/>).</summary>
+    public static async Task EventuallyAsync(Func<bool> condition, string what)
+    {
+        ArgumentNullException.ThrowIfNull(condition);
+        var clock = Stopwatch.StartNew();
+        while (!condition())
+        {
+            Assert.True(clock.Elapsed < Patience, $"Not within {Patience.TotalSeconds} s: {what}.");
+            await Task.Delay(50);
+        }
+    }
 }

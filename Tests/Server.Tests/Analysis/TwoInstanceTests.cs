@@ -1,5 +1,4 @@
 using System.Collections.Concurrent;
-using System.Diagnostics;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
 using Npgsql;
@@ -58,11 +57,11 @@ public sealed class TwoInstanceTests
         Assert.Equal(Enumerable.Range(1, 8).Select(v => (long)v), stored.Select(s => s.ResultSetVersion).Distinct());
 
         // Pushed by both: every snapshot reached the followers of both instances and the stream on the second.
-        await Eventually(() => pushed.All(p => stored.All(s => p.ContainsKey(s.Version))), "every snapshot pushed on both instances");
+        await AnalysisKit.EventuallyAsync(() => pushed.All(p => stored.All(s => p.ContainsKey(s.Version))), "every snapshot pushed on both instances");
         foreach (var (version, _) in stored)
             await streamOnSecond.NextAsync(b => b.Name == "snapshot" && b.Event!.SnapshotVersion == version, what: $"snapshot {version} on the second instance's stream");
         // Changes committed on the first reach the pages watching on the second.
-        await Eventually(() => Volatile.Read(ref watchedOnSecond) >= 8, "eight changes seen on the second instance");
+        await AnalysisKit.EventuallyAsync(() => Volatile.Read(ref watchedOnSecond) >= 8, "eight changes seen on the second instance");
     }
 
     [Fact]
@@ -133,11 +132,11 @@ public sealed class TwoInstanceTests
             };
             Assert.True((long)(await kill.ExecuteScalarAsync())! >= 1);
         }
-        await Eventually(() => fanOut.Reconnects >= 1, "the second instance listening again");
+        await AnalysisKit.EventuallyAsync(() => fanOut.Reconnects >= 1, "the second instance listening again");
 
         using var viaFirst = first.AdminClient();
         await AnalysisKit.PostAsync(viaFirst, study.Runs![0]);
-        await Eventually(() => changes.Contains(1), "the result of the first instance seen on the second");
+        await AnalysisKit.EventuallyAsync(() => changes.Contains(1), "the result of the first instance seen on the second");
     }
 
     private static Task Record(ConcurrentDictionary<int, byte> pushed, StudyLiveEvent e)
@@ -148,14 +147,4 @@ public sealed class TwoInstanceTests
 
     private static Dictionary<string, FactorValue> Point(double height, double velocity) =>
         new() { ["fin_height"] = FactorValue.Of(height), ["air_velocity"] = FactorValue.Of(velocity) };
-
-    private static async Task Eventually(Func<bool> condition, string what)
-    {
-        var clock = Stopwatch.StartNew();
-        while (!condition())
-        {
-            Assert.True(clock.Elapsed < AnalysisKit.Patience, $"Not within {AnalysisKit.Patience.TotalSeconds} s: {what}.");
-            await Task.Delay(50);
-        }
-    }
 }
