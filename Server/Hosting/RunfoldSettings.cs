@@ -32,6 +32,13 @@ public sealed record RunfoldSettings
     /// <summary>RUNFOLD_TOKEN_PER_MINUTE: API requests per token and minute (default 1,200, in bursts of as many).</summary>
     public int TokenRequestsPerMinute { get; init; } = 1200;
 
+    /// <summary>RUNFOLD_ANALYSIS_DEBOUNCE_MS: a refit starts once no result has come for this long (default 250 ms).</summary>
+    public TimeSpan AnalysisDebounce { get; init; } = TimeSpan.FromMilliseconds(250);
+
+    /// <summary>RUNFOLD_ANALYSIS_MAX_WAIT_MS: …or once the oldest result not yet analysed has waited this long
+    /// (default 2,000 ms).</summary>
+    public TimeSpan AnalysisMaxWait { get; init; } = TimeSpan.FromSeconds(2);
+
     /// <summary>RUNFOLD_OIDC_AUTHORITY, _CLIENT_ID, _CLIENT_SECRET, _NAME: the company's single sign-on
     /// (OpenID Connect); off unless the authority and client id are set.</summary>
     public SingleSignOnSettings? SingleSignOn { get; init; }
@@ -57,6 +64,8 @@ public sealed record RunfoldSettings
             MaxUploadBytes = PositiveInt(configuration, "RUNFOLD_MAX_UPLOAD_MB", 10) * 1024L * 1024,
             SignInPerMinute = PositiveInt(configuration, "RUNFOLD_SIGNIN_PER_MINUTE", 10),
             TokenRequestsPerMinute = PositiveInt(configuration, "RUNFOLD_TOKEN_PER_MINUTE", 1200),
+            AnalysisDebounce = TimeSpan.FromMilliseconds(PositiveInt(configuration, "RUNFOLD_ANALYSIS_DEBOUNCE_MS", 250)),
+            AnalysisMaxWait = TimeSpan.FromMilliseconds(PositiveInt(configuration, "RUNFOLD_ANALYSIS_MAX_WAIT_MS", 2000)),
             SingleSignOn = authority is null || clientId is null ? null : new SingleSignOnSettings(
                 authority, clientId, NullIfBlank(configuration["RUNFOLD_OIDC_CLIENT_SECRET"]),
                 NullIfBlank(configuration["RUNFOLD_OIDC_NAME"]) ?? "company sign-on"),

@@ -1,4 +1,3 @@
-using System.Collections.Concurrent;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Studies;
@@ -22,61 +21,47 @@ public enum StudyChangeKind
 public sealed record StudyChange(int StudyId, StudyChangeKind Kind, long ResultSetVersion);
 
 /// <summary>
-/// Raised after a change of a study is committed. This in-process implementation tells the pages of this server
-/// instance; a fan-out across instances (PostgreSQL LISTEN/NOTIFY) can replace or decorate it without touching the
-/// services that raise it.
+/// Raised after a change of a study is committed. <see cref="StudyChangeHub"/> tells this server instance; the
+/// PostgreSQL fan-out (Server/Live) carries each change to the other instances, which deliver it to theirs.
 /// </summary>
 public interface IStudyChangeNotifier
 {
     void Publish(StudyChange change);
 }
 
-/// <summary>In-process study changes: subscribers are called on the thread pool, never on the publisher's thread,
-/// so a slow page cannot slow a claim.</summary>
-public sealed partial class StudyChangeHub(ILogger<StudyChangeHub> logger) : IStudyChangeNotifier, IStudyUpdates
+/// <summary>
+/// Study changes on this server instance: the pages watching a study (<see cref="IStudyUpdates"/>) and the
+/// listeners of <see cref="Delivered"/> hear both the changes committed here and those another instance committed.
+/// </summary>
+public sealed class StudyChangeHub(ILogger<StudyChangeHub> logger) : IStudyChangeNotifier, IStudyUpdates
 {
-    private readonly ConcurrentDictionary<int, ConcurrentDictionary<Guid, Func<StudyChange, Task>>> _watchers = new();
+    private readonly StudySubscribers<StudyChange> _watchers = new(logger, "page watching the changes");
 
-    /// <summary>Every change, for listeners that follow all studies (the live analysis, fan-out).</summary>
+    /// <summary>Every change committed on this instance: the hook of the fan-out to the other instances.</summary>
     public event Action<StudyChange>? Changed;
+
+    /// <summary>Every change of any study, committed here or on another instance (the live analysis listens).</summary>
+    public event Action<StudyChange>? Delivered;
+
+    /// <summary>The studies some page of this instance watches.</summary>
+    public IReadOnlyList<int> WatchedStudies => _watchers.Studies;
 
     public void Publish(StudyChange change)
     {
         ArgumentNullException.ThrowIfNull(change);
         Changed?.Invoke(change);
-        if (!_watchers.TryGetValue(change.StudyId, out var watchers)) return;
-        foreach (var watcher in watchers.Values)
-            _ = Task.Run(async () =>
-            {
-                try { await watcher(change); }
-#pragma warning disable CA1031 // a failing page must not break the others
-                catch (Exception e) { Log.WatcherFailed(logger, change.StudyId, e); }
-#pragma warning restore CA1031
-            });
+        Deliver(change);
     }
 
-    public IDisposable Subscribe(int studyId, Func<StudyChange, Task> changed)
+    /// <summary>Tells this instance of a change: called by <see cref="Publish"/> and for changes of other instances.</summary>
+    public void Deliver(StudyChange change)
     {
-        var id = Guid.NewGuid();
-        _watchers.GetOrAdd(studyId, _ => new()).TryAdd(id, changed);
-        return new Subscription(() =>
-        {
-            if (_watchers.TryGetValue(studyId, out var watchers)) watchers.TryRemove(id, out _);
-        });
+        ArgumentNullException.ThrowIfNull(change);
+        Delivered?.Invoke(change);
+        _watchers.Notify(change.StudyId, change);
     }
+
+    public IDisposable Subscribe(int studyId, Func<StudyChange, Task> changed) => _watchers.Subscribe(studyId, changed);
 
     public IDisposable Watch(int studyId, Func<Task> changed) => Subscribe(studyId, _ => changed());
-
-    private sealed class Subscription(Action dispose) : IDisposable
-    {
-        private Action? _dispose = dispose;
-
-        public void Dispose() => Interlocked.Exchange(ref _dispose, null)?.Invoke();
-    }
-
-    private static partial class Log
-    {
-        [LoggerMessage(Level = LogLevel.Warning, Message = "A page watching study {StudyId} failed to refresh")]
-        public static partial void WatcherFailed(ILogger logger, int studyId, Exception exception);
-    }
 }

@@ -32,7 +32,9 @@ public sealed record ResponseAnalysisDto(
     string? Refusal = null);
 
 /// <summary>The selected surrogate: its kind ("quadratic", "gaussianProcess", "rbf", "ensemble", …), cross-validated
-/// scores, and the reason it was chosen over the others compared.</summary>
+/// scores, and the reason it was chosen over the others compared. <see cref="ComparedAtRuns"/> is the number of done
+/// runs at which the models were last all compared (<see cref="Compared"/>): between two comparisons the chosen
+/// model is refitted to each new result with its hyper-parameters kept.</summary>
 public sealed record ModelSummaryDto(
     string Kind,
     string Description,
@@ -42,7 +44,8 @@ public sealed record ModelSummaryDto(
     double MaxAbsError,
     string Reason,
     bool LogResponse,
-    IReadOnlyList<ModelScoreDto> Compared);
+    IReadOnlyList<ModelScoreDto> Compared,
+    int? ComparedAtRuns = null);
 
 public sealed record ModelScoreDto(string Kind, string Description, double CvRmse, double CvR2);
 

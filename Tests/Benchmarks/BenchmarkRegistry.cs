@@ -27,5 +27,6 @@ public static class BenchmarkRegistry
         ClaimsBenchmark.Register();
         ModelingBenchmarks.Register();
         SensitivityBenchmarks.Register();
+        AnalysisLatencyBenchmark.Register();
     }
 }

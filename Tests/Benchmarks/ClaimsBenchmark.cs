@@ -157,7 +157,7 @@ public static partial class ClaimsBenchmark
             .GroupBy(e => e.RunId).Where(g => g.Count() > 1).LongCountAsync();
     }
 
-    private sealed record Measurement(double PerSecond, double P50, double P99)
+    internal sealed record Measurement(double PerSecond, double P50, double P99)
     {
         public static Measurement From(double perSecond, double[] latenciesMs)
         {
@@ -175,7 +175,7 @@ public static partial class ClaimsBenchmark
     }
 
     /// <summary>A throwaway PostgreSQL cluster (as Tests/run.sh starts one), or the one RUNFOLD_BENCH_POSTGRES names.</summary>
-    private sealed partial class Cluster : IAsyncDisposable
+    internal sealed partial class Cluster : IAsyncDisposable
     {
         private readonly string? _folder;
         private readonly string _bin;

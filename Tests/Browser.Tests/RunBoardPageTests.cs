@@ -58,20 +58,7 @@ public sealed class RunBoardPageTests : IAsyncLifetime
     private static void Ok(HttpResponseMessage response) =>
         Assert.True(response.IsSuccessStatusCode, $"{(int)response.StatusCode} {response.Content.ReadAsStringAsync().Result}");
 
-    private async Task<IPage> SignedInAsync(List<string> problems)
-    {
-        var person = await _chromium.NewPersonAsync();
-        var page = await person.NewPageAsync();
-        page.Console += (_, m) => { if (m.Type is "error" or "warning") problems.Add(m.Text); };
-        page.PageError += (_, e) => problems.Add(e);
-        page.Dialog += (_, d) => { problems.Add("dialog: " + d.Message); _ = d.DismissAsync(); };
-        await page.GotoAsync(new Uri(_server.Address, "/signin").ToString());
-        await page.FillAsync("#userName", "ana");
-        await page.FillAsync("#password", Password);
-        await page.ClickAsync("#password-signin");
-        await Assertions.Expect(page.Locator("h1")).ToHaveTextAsync("Studies");
-        return page;
-    }
+    private Task<IPage> SignedInAsync(List<string> problems) => _chromium.SignInAsync(_server.Address, "ana", Password, problems);
 
     [Fact]
     public async Task An_analyst_signs_in_with_a_password_claims_a_run_posts_its_result_and_sees_it_in_the_activity()

@@ -144,4 +144,13 @@ public sealed class AnalysisSnapshot
 
     /// <summary>The snapshot as the API returns it, JSON.</summary>
     public required string PayloadJson { get; set; }
+
+    /// <summary>What any server instance needs to rebuild the snapshot's models exactly: each response's model
+    /// recipe and the result revisions it was fitted to, JSON (see Server/Analysis). Null when no response has a
+    /// model.</summary>
+    public string? ModelsJson { get; set; }
+
+    /// <summary>The snapshot's point of the convergence view (an <c>AnalysisHistoryPointDto</c>), JSON, so the
+    /// history is read without parsing every payload.</summary>
+    public string? SummaryJson { get; set; }
 }

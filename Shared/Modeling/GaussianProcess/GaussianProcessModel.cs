@@ -95,6 +95,26 @@ public static class GaussianProcessModel
         return problem.Surrogate(solution, options, estimated: false);
     }
 
+    /// <summary>Fits with the length scales and the noise-to-signal ratio fixed and the signal variance estimated
+    /// in closed form (its maximum-likelihood value given the others): a chosen process refitted to changed runs.</summary>
+    public static GaussianProcessSurrogate FitWith(
+        FactorSpace space, Matrix<double> coded, IReadOnlyList<double> observed,
+        GaussianProcessOptions options, IReadOnlyList<double> lengthScales, double noiseRatio)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(lengthScales);
+        options.Check();
+        var problem = Problem.Create(space, coded, observed, options);
+        if (problem.Standardization.IsConstant) return problem.Constant();
+        if (lengthScales.Count != problem.Likelihood.Columns)
+            throw new ArgumentException($"The model has {problem.Likelihood.Columns} input columns but {lengthScales.Count} length scales were given.", nameof(lengthScales));
+        if (!(noiseRatio >= 0) || lengthScales.Any(l => !(l > 0)))
+            throw new ArgumentException("Length scales must be positive and the noise ratio zero or positive.", nameof(lengthScales));
+        var solution = problem.Likelihood.Solve(lengthScales, noiseRatio, signalVariance: null)
+            ?? throw new InvalidOperationException("The covariance of these runs with these length scales could not be factorised.");
+        return problem.Surrogate(solution, options, estimated: false);
+    }
+
     private static List<double[]> Starts(int m, GaussianProcessOptions options, double[] lower, double[] upper)
     {
         var starts = new List<double[]>();

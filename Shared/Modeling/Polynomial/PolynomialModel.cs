@@ -72,6 +72,33 @@ public static class PolynomialModel
         return new PolynomialFitResult(null, refusals, Math.Max(needed - n, 0));
     }
 
+    /// <summary>
+    /// Fits exactly the named terms of a family by least squares, without selection: a chosen model refitted to a
+    /// changed set of runs. <paramref name="selection"/> only labels how the terms were once chosen. Null when a
+    /// name is not a term of the family, the runs are too few, or the terms cannot be separated with these runs.
+    /// </summary>
+    public static PolynomialSurrogate? FitTerms(FactorSpace space, Matrix<double> coded, IReadOnlyList<double> observed,
+        PolynomialFamily family, IReadOnlyList<string> termNames, TermSelection selection = TermSelection.None)
+    {
+        ArgumentNullException.ThrowIfNull(termNames);
+        TrainingData.Check(space, coded, observed);
+        var encoding = new FactorEncoding(space, dropFirstLevel: true);
+        var terms = PolynomialTerms.Of(encoding, family);
+        var chosen = new List<int>(termNames.Count);
+        foreach (var name in termNames)
+        {
+            var index = terms.FindIndex(t => t.Name == name);
+            if (index < 0 || chosen.Contains(index)) return null;
+            chosen.Add(index);
+        }
+        chosen.Sort();
+        var n = coded.RowCount;
+        if (chosen.Count == 0 || n < chosen.Count + 1) return null;
+        var x = encoding.Encode(coded);
+        var fit = LeastSquares.Fit(Design(terms, chosen, x, n, encoding.ColumnCount), observed);
+        return fit is null ? null : new PolynomialSurrogate(space, encoding, family, selection, [.. chosen.Select(t => terms[t])], fit, x, observed);
+    }
+
     private static PolynomialSurrogate? FitFamily(FactorSpace space, FactorEncoding encoding, PolynomialFamily family,
         List<PolynomialTerm> terms, double[] x, IReadOnlyList<double> y, TermSelection selection, CancellationToken cancellation,
         out List<string> dropped)

@@ -34,6 +34,25 @@ public sealed class ChromiumBrowser : IAsyncDisposable
     public Task<IBrowserContext> NewPersonAsync() =>
         Browser.NewContextAsync(new BrowserNewContextOptions { ViewportSize = new ViewportSize { Width = 1280, Height = 800 } });
 
+    /// <summary>A person signed in with a password in a context of their own, on the studies page; console
+    /// errors and warnings, page errors and dialogs go to <paramref name="problems"/>.</summary>
+    public async Task<IPage> SignInAsync(Uri server, string userName, string password, List<string> problems)
+    {
+        ArgumentNullException.ThrowIfNull(server);
+        ArgumentNullException.ThrowIfNull(problems);
+        var person = await NewPersonAsync();
+        var page = await person.NewPageAsync();
+        page.Console += (_, m) => { if (m.Type is "error" or "warning") problems.Add(m.Text); };
+        page.PageError += (_, e) => problems.Add(e);
+        page.Dialog += (_, d) => { problems.Add("dialog: " + d.Message); _ = d.DismissAsync(); };
+        await page.GotoAsync(new Uri(server, "/signin").ToString());
+        await page.FillAsync("#userName", userName);
+        await page.FillAsync("#password", password);
+        await page.ClickAsync("#password-signin");
+        await Assertions.Expect(page.Locator("h1")).ToHaveTextAsync("Studies");
+        return page;
+    }
+
     public static string ArtifactsFolder()
     {
         var folder = Environment.GetEnvironmentVariable("RUNFOLD_TEST_ARTIFACTS")

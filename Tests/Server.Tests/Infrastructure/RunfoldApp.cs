@@ -41,9 +41,11 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
     /// <param name="sharedPostgres">Another instance's database: both servers then share it, as a team install
     /// with several instances does; the database is dropped by the instance that created it.</param>
     /// <param name="logging">Replaces the test logging set-up (the server's own log filters still apply).</param>
+    /// <param name="database">A PostgreSQL database the test made (and drops) itself: instances on it can be stopped
+    /// in any order.</param>
     public static async Task<RunfoldApp> StartAsync(StorageProvider provider = StorageProvider.Postgres, bool demo = false,
         IDictionary<string, string?>? extra = null, Action<IServiceCollection>? services = null, RunfoldApp? sharedPostgres = null,
-        Action<ILoggingBuilder>? logging = null)
+        Action<ILoggingBuilder>? logging = null, string? database = null)
     {
         var settings = new Dictionary<string, string?>
         {
@@ -51,7 +53,7 @@ public sealed class RunfoldApp : WebApplicationFactory<Program>
             ["RUNFOLD_DEMO"] = demo ? "1" : "0",
         };
         Func<ValueTask> cleanup;
-        if (sharedPostgres?.PostgresConnectionString is { } shared)
+        if ((database ?? sharedPostgres?.PostgresConnectionString) is { } shared)
         {
             settings["RUNFOLD_POSTGRES"] = shared;
             cleanup = () => ValueTask.CompletedTask;

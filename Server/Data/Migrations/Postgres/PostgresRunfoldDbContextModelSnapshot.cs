@@ -225,6 +225,10 @@ namespace Runfold.Server.Data.Migrations.Postgres
                         .HasColumnType("timestamp with time zone")
                         .HasColumnName("computed_at");
 
+                    b.Property<string>("ModelsJson")
+                        .HasColumnType("text")
+                        .HasColumnName("models_json");
+
                     b.Property<string>("PayloadJson")
                         .IsRequired()
                         .HasColumnType("text")
@@ -237,6 +241,10 @@ namespace Runfold.Server.Data.Migrations.Postgres
                     b.Property<int>("StudyId")
                         .HasColumnType("integer")
                         .HasColumnName("study_id");
+
+                    b.Property<string>("SummaryJson")
+                        .HasColumnType("text")
+                        .HasColumnName("summary_json");
 
                     b.Property<int>("Version")
                         .HasColumnType("integer")

@@ -211,6 +211,10 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                         .HasColumnType("INTEGER")
                         .HasColumnName("computed_at");
 
+                    b.Property<string>("ModelsJson")
+                        .HasColumnType("TEXT")
+                        .HasColumnName("models_json");
+
                     b.Property<string>("PayloadJson")
                         .IsRequired()
                         .HasColumnType("TEXT")
@@ -223,6 +227,10 @@ namespace Runfold.Server.Data.Migrations.Sqlite
                     b.Property<int>("StudyId")
                         .HasColumnType("INTEGER")
                         .HasColumnName("study_id");
+
+                    b.Property<string>("SummaryJson")
+                        .HasColumnType("TEXT")
+                        .HasColumnName("summary_json");
 
                     b.Property<int>("Version")
                         .HasColumnType("INTEGER")
