@@ -67,6 +67,8 @@ public sealed class RefitBehaviourTests
         Assert.True(await stage.Entered.WaitAsync(AnalysisKit.Patience), "the refit of the fifth result reached the held stage");
         await AnalysisKit.EventuallyAsync(() => hub.CurrentProgress(study.Id)?.Stage == "candidates", "the held stage shown as the refit's progress");
         Assert.Equal(5, hub.CurrentProgress(study.Id)!.ResultSetVersion);
+        // Followers are served in order but on their own queue, so the events may arrive after the hub shows the stage.
+        await AnalysisKit.EventuallyAsync(() => progress.Any(p => p.ResultSetVersion == 5 && p.Stage == "candidates"), "the held stage's progress delivered to the follower");
         var stages = progress.Where(p => p.ResultSetVersion == 5).Select(p => p.Stage).Distinct().ToList();
         Assert.Equal(["reading runs", "fitting thermal_resistance", "fitting pressure_drop", "fitting mass", "candidates"], stages);
         var percents = progress.Where(p => p.ResultSetVersion == 5).Select(p => p.Percent).ToList();
