@@ -89,20 +89,36 @@ public sealed class ExpectedImprovementLoopTests(ITestOutputHelper output)
     }
 
     [Fact]
-    public void Hartmann6_is_minimised_within_2_percent_in_150_evaluations()
+    public void Hartmann6_is_minimised_within_2_percent_in_150_evaluations_from_most_initial_designs()
     {
         // Source: Hartmann 6-D (VLSE; Dixon & Szegő 1978), minimum −3.32237; its values lie in [−3.32237, 0), so 2 % of
-        // |f*| is also 2 % of the range. Initial design: 20-run maximin Latin hypercube (seed 2); batches of 1.
-        // Expected improvement is not sure to find this minimum: the fourth term's basin (local minimum −3.2032) is
-        // wide in x3 and x5, and a Gaussian process fitted mostly to runs there takes long length scales in those
-        // inputs and stops seeing the narrower global basin. From the 20-run designs seeded 1 to 8, the loop reaches
-        // the goal from five (in 44 to 58 evaluations) and stalls at −3.2032 from three (seeds 1, 7 and 8), with every
-        // kernel, trend and likelihood variant we tried; see DEVELOPERS.md.
+        // |f*| is also 2 % of the range. Initial designs: 20-run maximin Latin hypercubes seeded 1 to 8; batches of 1.
+        //
+        // Expected improvement is not sure to find this minimum. Designs 1, 7 and 8 lead the loop into the basin of the
+        // fourth term (local minimum −3.2032, 3.6 % above f*), which is nearly flat in x3 and x5 (exponents 0.05 and
+        // 0.1), while the global basin is narrow in x5 (exponent 17). Fitted mostly to runs in the wide basin, the
+        // Gaussian process takes length scales of about 11 and 8 (coded) in x3 and x5 and a process standard deviation
+        // of about 0.4 around a mean of about −0.3, so at the global minimiser it predicts −0.35 ± 0.39 and expected
+        // improvement of 1e-14 — the surrogate is sure nothing better exists, and the acquisition search is not at
+        // fault: it finds what a 100,000-point search with twenty polished starts finds. Bounding or penalising the
+        // length scales, an isotropic kernel, no trend, a −ln(−y) response, a minimum improvement ξ, and spending
+        // picks on the largest variance or on random points (ε-greedy) all left these designs at −3.2032 within 150
+        // evaluations; see DEVELOPERS.md. So the five designs that reach the goal must reach it, and the other three
+        // must at least reach that local minimum (every design within 4 % of f*).
         var hartmann = PublishedTestFunctions.Hartmann6;
         var minimum = hartmann.KnownMinimum!.Value;
         var goal = minimum + 0.02 * Math.Abs(minimum);
-        var result = Run(hartmann, 20, 1, goal, 150, seed: 2);
-        output.WriteLine($"Hartmann-6: best {result.Best:F5} after {result.Evaluations} evaluations (goal {goal:F5})");
-        Assert.True(result.Reached, $"best {result.Best:F5} after {result.Evaluations} evaluations, goal {goal:F5}");
+        var mustReach = new[] { 2, 3, 4, 5, 6 };
+        var failures = new List<string>();
+        foreach (var seed in Enumerable.Range(1, 8))
+        {
+            var result = Run(hartmann, 20, 1, goal, 150, seed);
+            output.WriteLine($"design {seed}: best {result.Best:F5} after {result.Evaluations} evaluations, {(result.Reached ? "goal reached" : "goal not reached")} (goal {goal:F5})");
+            if (mustReach.Contains(seed) && !result.Reached)
+                failures.Add($"design {seed}: best {result.Best:F5} after {result.Evaluations} evaluations, goal {goal:F5}");
+            if (result.Best > minimum + 0.04 * Math.Abs(minimum))
+                failures.Add($"design {seed}: best {result.Best:F5} is not within 4 % of the minimum");
+        }
+        Assert.True(failures.Count == 0, string.Join("; ", failures));
     }
 }

@@ -140,4 +140,28 @@ public sealed class NextWaveTests
         var picks = wave.Runs.Select(r => r.Coded.ToArray()).ToList();
         Assert.True(SearchSpace.Distance(picks[0], picks[1]) >= 0.2 - 1e-9);
     }
+
+    [Fact]
+    public void Expected_improvement_too_small_for_double_precision_still_places_the_run_where_it_is_largest()
+    {
+        // A surrogate sure that nothing beats the best run: its mean lies 39 to 40 standard deviations above the best
+        // observed value, so EI underflows to 0 everywhere, but ln EI still ranks the points by their standard
+        // deviation, which grows with fin height (20 to 60 mm): the pick goes to the tallest fins, and its reason says so.
+        var (runs, objectives) = Study();
+        var best = objectives[0].Observed!.Min();
+        var sure = objectives[0] with { Surrogate = new FunctionSurrogate(Space, _ => best + 1, x => 1 / (40 - (x[0] - 20) / 40)) };
+        var wave = NextWave.Propose(Space, [sure], runs, Constraints, new NextWaveOptions { Count = 1, Response = "thermal_resistance" });
+        AssertValidRuns(wave, runs, 1);
+        var run = wave.Runs.Single();
+        Assert.StartsWith("expected improvement", run.Reason, StringComparison.Ordinal);
+        Assert.Contains("almost no chance of a better value anywhere", run.Reason, StringComparison.Ordinal);
+        Assert.Equal(0, run.Score);
+        Assert.True(run.Coded[0] > 0.9, $"fin height at {run.Coded[0]:F3} (coded)");
+
+        // No uncertainty at all and no predicted gain: nothing to rank, so the run fills the largest gap.
+        var certain = objectives[0] with { Surrogate = new FunctionSurrogate(Space, _ => best + 1, _ => 0) };
+        var gap = NextWave.Propose(Space, [certain], runs, Constraints, new NextWaveOptions { Count = 1, Response = "thermal_resistance" });
+        AssertValidRuns(gap, runs, 1);
+        Assert.Contains("fills the largest gap", gap.Runs.Single().Reason, StringComparison.Ordinal);
+    }
 }
