@@ -18,6 +18,9 @@ public static class AnalysisApi
         services.AddSingleton(new AnalysisOptions { Debounce = settings.AnalysisDebounce, MaxWait = settings.AnalysisMaxWait });
         if (settings.Provider == StorageProvider.Postgres) services.AddSingleton<IAnalysisLocks, PostgresAnalysisLocks>();
         else services.AddSingleton<IAnalysisLocks, InProcessAnalysisLocks>();
+        // The stages after the fits, in this order: sensitivity, then the candidates.
+        services.AddSingleton<IAnalysisStage, SensitivityStage>();
+        services.AddSingleton<IAnalysisStage, CandidatesStage>();
         services.AddSingleton<SnapshotBuilder>();
         services.AddSingleton<FittedModelCache>();
         services.AddSingleton<AnalysisCoordinator>();
@@ -54,7 +57,7 @@ public static class AnalysisApi
 
         group.MapPost("/waves", async (int id, WaveRequest? request, ClaimsPrincipal user, StudyAnalysisService analysis, CancellationToken ct) =>
                 (await analysis.AddWaveAsync(Caller.From(user)!, id, request, ct)).ToResult(runs => TypedResults.Created($"/api/studies/{id}/runs", runs)))
-            .WithSummary("Lead only: add a wave of runs. kind \"augment\" places count space-filling runs by maximin distance to the study's runs; \"infill\" and \"verify\" need the optimisation stage.")
+            .WithSummary("Lead only: add a wave of runs. kind \"infill\" proposes count runs from the latest snapshot's surrogates (criterion expectedImprovement, variance or maximin; optionally for one response); \"augment\" places count space-filling runs by maximin distance to the study's runs; \"verify\" adds a run at a candidate's setting (candidateRank, or the best count unverified candidates) and keeps its prediction for the comparison.")
             .Produces<IReadOnlyList<RunDto>>(StatusCodes.Status201Created)
             .ProducesValidationProblem()
             .ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity)

@@ -1,9 +1,11 @@
 using System.Data;
+using System.Text.Json;
 using MathNet.Numerics.LinearAlgebra;
 using Microsoft.EntityFrameworkCore;
 using Runfold.Server.Data;
 using Runfold.Server.Runs;
 using Runfold.Server.Studies;
+using Runfold.Shared.Doe;
 using Runfold.Shared.Studies;
 
 namespace Runfold.Server.Analysis;
@@ -30,6 +32,15 @@ public sealed record AnalysisInput(
     int FailedRuns,
     DateTimeOffset? NewestResultAt)
 {
+    /// <summary>The study's constraints between factors: candidates and new waves honour them.</summary>
+    public DesignConstraints Constraints { get; init; } = DesignConstraints.None;
+
+    /// <summary>The verification runs of the study: their designs stay among the candidates with the result.</summary>
+    public IReadOnlyList<VerificationRun> Verifications { get; init; } = [];
+
+    /// <summary>The done runs' coded factor values (runs × factors), in run order.</summary>
+    public Matrix<double> CodedRuns() => Matrix<double>.Build.Dense(Runs.Count, Space.Count, (i, j) => Runs[i].Coded[j]);
+
     public ResponseData DataOf(string response)
     {
         var rows = Runs.Where(r => r.Values.TryGetValue(response, out var v) && double.IsFinite(v)).ToList();
@@ -66,6 +77,8 @@ public static class AnalysisReads
                 (r, v) => new { r.Id, r.Number, r.FactorValues, v.Revision, v.Values, v.CreatedAt })
             .OrderBy(r => r.Number)
             .ToListAsync(cancellationToken);
+        var verifications = await VerificationReads.ReadAsync(db, space, studyId, cancellationToken);
+        var designJson = await db.Studies.Where(s => s.Id == studyId).Select(s => s.DesignJson).FirstAsync(cancellationToken);
         if (transaction is not null) await transaction.CommitAsync(cancellationToken);
         return new AnalysisInput(
             studyId,
@@ -75,7 +88,11 @@ public static class AnalysisReads
             [.. done.Select(r => new DoneRun(r.Id, r.Number, r.Revision, space.ToCoded(r.FactorValues), r.Values))],
             counts.Sum(c => c.Count),
             counts.Where(c => c.State == RunState.Failed).Sum(c => c.Count),
-            done.Count == 0 ? null : done.Max(r => r.CreatedAt));
+            done.Count == 0 ? null : done.Max(r => r.CreatedAt))
+        {
+            Constraints = StudyConstraints.Of(designJson, space),
+            Verifications = verifications,
+        };
     }
 
     /// <summary>Exactly the given result revisions (run id, revision), in the given order: what a snapshot's models
@@ -104,3 +121,16 @@ public static class AnalysisReads
 
 /// <summary>One result revision of one run.</summary>
 public readonly record struct RunRevision(int RunId, int Revision);
+
+/// <summary>The constraints between factors stored with a study's design.</summary>
+public static class StudyConstraints
+{
+    /// <summary>The constraints of the stored design; none when it has none (they were checked when the study was
+    /// created, so a stored design parses).</summary>
+    public static DesignConstraints Of(string designJson, FactorSpace space)
+    {
+        ArgumentNullException.ThrowIfNull(space);
+        var design = JsonSerializer.Deserialize<DesignSpec>(designJson, RunfoldJson.Options);
+        return DesignConstraints.Parse(design?.Constraints, space).Value ?? DesignConstraints.None;
+    }
+}

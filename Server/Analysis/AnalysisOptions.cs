@@ -42,8 +42,25 @@ public sealed record AnalysisOptions
     /// <summary>Model selection settings (seeded, so every instance chooses alike).</summary>
     public SurrogateSelectionOptions Selection { get; init; } = SurrogateSelectionOptions.Default;
 
+    /// <summary>The time the Sobol' indices of all responses together may take in one refit (their sample size is
+    /// fitted to it, at least 256 base rows per response).</summary>
+    public TimeSpan SensitivityBudget { get; init; } = TimeSpan.FromMilliseconds(300);
+
+    /// <summary>Points of the other factors each value of a main-effect curve is averaged over.</summary>
+    public int MainEffectSamples { get; init; } = 256;
+
+    /// <summary>The time the candidate search (differential evolution, NSGA-II, polish) may take in one refit.</summary>
+    public TimeSpan CandidateBudget { get; init; } = TimeSpan.FromMilliseconds(300);
+
+    /// <summary>Candidates the search lists besides those being verified.</summary>
+    public int Candidates { get; init; } = 5;
+
     /// <summary>The most points one prediction request may carry.</summary>
     public int MaxPredictPoints { get; init; } = 10_000;
+
+    /// <summary>The most runs one infill wave may add: each pick is searched with the surrogates conditioned on the
+    /// picks before it, so a large batch takes long and adds little over a space-filling one.</summary>
+    public int MaxInfillRuns { get; init; } = 50;
 
     /// <summary>The most runs one wave may add.</summary>
     public int MaxWaveRuns { get; init; } = 1_000;

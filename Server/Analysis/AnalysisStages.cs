@@ -47,6 +47,9 @@ public sealed class AnalysisWork(AnalysisInput input, IReadOnlyList<ResponseMode
 
     public List<CandidateDto> Candidates { get; } = [];
 
+    /// <summary>What the candidate search wants the reader to know (no goal, too few distinct designs, …).</summary>
+    public List<string> CandidateNotes { get; } = [];
+
     /// <summary>The best candidate's desirability, for the convergence view.</summary>
     public double? BestDesirability { get; set; }
 }

@@ -201,7 +201,7 @@ public sealed partial class SnapshotBuilder(
             m.Surrogate is null ? m.Refusal : null)).ToList();
         var stillNeeded = work.Models.Where(m => m.Surrogate is null).Select(m => m.RunsStillNeeded).Max();
         return new AnalysisSnapshotDto(version, input.ResultSetVersion, input.Runs.Count, input.TotalRuns, input.FailedRuns, computedAt,
-            responses, [.. work.Candidates], Notice(work), stillNeeded);
+            responses, [.. work.Candidates], Notice(work), stillNeeded, work.CandidateNotes.Count == 0 ? null : [.. work.CandidateNotes]);
     }
 
     /// <summary>The sentence above the snapshot when some response has no model yet.</summary>

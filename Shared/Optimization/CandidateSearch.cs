@@ -42,6 +42,12 @@ public sealed record CandidateOptions
     /// <summary>Spread feasible points that seed the searches and set the span of each response.</summary>
     public int SpreadPoints { get; init; } = 512;
 
+    /// <summary>Designs (coded rows) that stay in the list whatever their rank — the candidates being verified —,
+    /// each described and ranked like the others, on top of the <see cref="Count"/> the search chooses; a chosen
+    /// design closer than the minimum distance to one of them gives way to it. <see cref="Candidate.Kept"/> says
+    /// which one a candidate is.</summary>
+    public IReadOnlyList<IReadOnlyList<double>> Keep { get; init; } = [];
+
     public static CandidateOptions Default { get; } = new();
 
     internal void Check()
@@ -52,6 +58,8 @@ public sealed record CandidateOptions
         if (TimeBudget is { } budget && budget <= TimeSpan.Zero) throw new ArgumentException("The time budget must be positive.", nameof(TimeBudget));
         if (PopulationSize < 4 || Generations < 0 || EvolutionGenerations < 0 || Polish < 0 || SpreadPoints < 16)
             throw new ArgumentException("The search sizes are out of range.", nameof(PopulationSize));
+        if (Keep is null || Keep.Any(k => k is null || k.Any(v => !double.IsFinite(v))))
+            throw new ArgumentException("Every design to keep must be a row of finite coded values.", nameof(Keep));
     }
 }
 
@@ -70,7 +78,12 @@ public sealed record Candidate(
     double Desirability,
     int ParetoRank,
     bool Extrapolating,
-    double NearestRunDistance);
+    double NearestRunDistance)
+{
+    /// <summary>The position in <see cref="CandidateOptions.Keep"/> of the design this candidate is; null for a
+    /// design the search chose.</summary>
+    public int? Kept { get; init; }
+}
 
 /// <summary>The ranked candidates and what the search did.</summary>
 public sealed record CandidateSearchResult(
@@ -157,6 +170,13 @@ public static class CandidateSearch
         }
 
         var minDistance = options.MinDistance ?? 0.1 * Math.Sqrt(space.Count);
+        foreach (var keep in options.Keep)
+            if (keep.Count != space.Count)
+                throw new ArgumentException($"A design to keep has {keep.Count} values for {space.Count} factors.", nameof(options));
+        var keptFrom = pool.Count;
+        pool.AddRange(options.Keep.Select(k => k.ToArray()));
+        var kept = pool.GetRange(keptFrom, options.Keep.Count);
+        int? KeptAt(int i) => i >= keptFrom && i < keptFrom + kept.Count ? i - keptFrom : null;
         var evaluation = set.Evaluate(pool);
         evaluations += pool.Count;
         var order = Order(evaluation);
@@ -164,7 +184,7 @@ public static class CandidateSearch
         foreach (var i in order)
         {
             if (polished.Count >= options.Polish || (plan.Deadline is { } deadline && watch.Elapsed > deadline)) break;
-            if (evaluation.FactorViolation[i] > 0 || SearchSpace.Nearest(pool[i], polished) < minDistance) continue;
+            if (KeptAt(i) is not null || evaluation.FactorViolation[i] > 0 || SearchSpace.Nearest(pool[i], polished) < minDistance) continue;
             cancellation.ThrowIfCancellationRequested();
             var (point, _) = LocalPolish.Maximize(search, pool[i], points =>
             {
@@ -182,20 +202,30 @@ public static class CandidateSearch
             order = Order(evaluation);
         }
 
+        // In rank order: every kept design, and the best distinct feasible designs of the search, none of them
+        // closer than the minimum distance to a kept design or to one chosen before.
         var chosen = new List<int>();
+        var searched = 0;
         foreach (var i in order)
         {
-            if (chosen.Count == options.Count) break;
+            if (KeptAt(i) is not null)
+            {
+                chosen.Add(i);
+                continue;
+            }
+            if (searched == options.Count) continue;
             if (evaluation.FactorViolation[i] > 0) continue;
-            if (chosen.Any(c => SearchSpace.Distance(pool[c], pool[i]) < minDistance)) continue;
+            if (chosen.Any(c => SearchSpace.Distance(pool[c], pool[i]) < minDistance) || SearchSpace.Nearest(pool[i], kept) < minDistance) continue;
             chosen.Add(i);
+            searched++;
         }
-        if (chosen.Count < options.Count)
-            notes.Add($"Only {chosen.Count} designs at least {minDistance:G3} apart (coded) were found; lower the minimum distance for more.");
+        if (searched < options.Count)
+            notes.Add($"Only {searched} designs at least {minDistance:G3} apart (coded) were found; lower the minimum distance for more.");
         if (chosen.Count > 0 && chosen.All(i => evaluation.Desirability[i] == 0))
             notes.Add("No design is predicted to meet every limit and goal range; the candidates are the closest the search found.");
         var ranks = ParetoRanks(evaluation);
-        var candidates = Describe(space, set, pool, chosen, evaluation, ranks, runs, extrapolation);
+        var candidates = Describe(space, set, pool, chosen, evaluation, ranks, runs, extrapolation)
+            .Select((c, n) => c with { Kept = KeptAt(chosen[n]) }).ToList();
         return new CandidateSearchResult(candidates, evaluations, paretoGenerations, evolution.Generations, extrapolation, watch.Elapsed, notes);
     }
 

@@ -7,7 +7,8 @@ namespace Runfold.Shared.Studies;
 // the pages and API clients only read them.
 
 /// <summary>One immutable analysis of a study: per response the chosen surrogate, its fit check and the
-/// sensitivity ranking; the ranked candidates across responses.</summary>
+/// sensitivity ranking; the ranked candidates across responses, and what the candidate search noted
+/// (<see cref="CandidateNotes"/>: no goal to rank by, fewer distinct designs than asked, …).</summary>
 public sealed record AnalysisSnapshotDto(
     int Version,
     long ResultSetVersion,
@@ -18,7 +19,8 @@ public sealed record AnalysisSnapshotDto(
     IReadOnlyList<ResponseAnalysisDto> Responses,
     IReadOnlyList<CandidateDto> Candidates,
     string? Notice = null,
-    int? RunsStillNeeded = null);
+    int? RunsStillNeeded = null,
+    IReadOnlyList<string>? CandidateNotes = null);
 
 /// <summary>One response of the snapshot. <see cref="Model"/> is null when no model could be fitted yet, and then
 /// <see cref="Refusal"/> says why (for example how many more done runs are needed).</summary>
@@ -116,8 +118,10 @@ public sealed record AnalysisProgressDto(int StudyId, long ResultSetVersion, str
 public sealed record PredictRequest(IReadOnlyList<IReadOnlyDictionary<string, FactorValue>> Points);
 
 /// <summary>POST /api/studies/{id}/waves. Kind: infill, augment or verify; criterion for infill:
-/// expectedImprovement, variance or maximin; candidateRank for verify.</summary>
-public sealed record WaveRequest(string Kind, int? Count = null, string? Criterion = null, int? CandidateRank = null);
+/// expectedImprovement (default), variance or maximin, and optionally the one response it improves or learns
+/// (default: the overall desirability, or every response with a goal or limit); candidateRank for verify (without
+/// it, the best <see cref="Count"/> unverified candidates).</summary>
+public sealed record WaveRequest(string Kind, int? Count = null, string? Criterion = null, int? CandidateRank = null, string? Response = null);
 
 [JsonConverter(typeof(CamelCaseEnumConverter<StudyLiveEventKind>))]
 public enum StudyLiveEventKind

@@ -37,7 +37,7 @@ public sealed class SetupAndRunBoardTests : IAsyncLifetime
 
     private static void Watch(IPage page, List<string> problems)
     {
-        page.Console += (_, m) => { if (m.Type is "error" or "warning") problems.Add(m.Text); };
+        page.Console += (_, m) => { if (ChromiumBrowser.IsProblem(m)) problems.Add(m.Text); };
         page.PageError += (_, e) => problems.Add(e);
     }
 

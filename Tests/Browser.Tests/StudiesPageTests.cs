@@ -27,7 +27,7 @@ public sealed class StudiesPageTests : IAsyncLifetime
         await using var person = await _chromium.NewPersonAsync();
         var page = await person.NewPageAsync();
         var problems = new List<string>();
-        page.Console += (_, m) => { if (m.Type is "error" or "warning") problems.Add(m.Text); };
+        page.Console += (_, m) => { if (ChromiumBrowser.IsProblem(m)) problems.Add(m.Text); };
         page.PageError += (_, e) => problems.Add(e);
 
         await page.GotoAsync(_server.Address.ToString());

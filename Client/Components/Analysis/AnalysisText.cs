@@ -46,7 +46,12 @@ public static class AnalysisText
     {
         ArgumentNullException.ThrowIfNull(value);
         string text;
-        if (value.Sd is { } sd && double.IsFinite(sd) && sd > 0 && double.IsFinite(value.Mean))
+        if (value.Sd is { } tiny && double.IsFinite(tiny) && tiny > 0 && Math.Abs(value.Mean) > 0 && tiny < 1e-4 * Math.Abs(value.Mean))
+        {
+            // Next to a run the model is all but sure: the mean to four digits, not to the sd's last place.
+            text = $"{Formats.Number(value.Mean)} ± {Formats.Number(tiny)}";
+        }
+        else if (value.Sd is { } sd && double.IsFinite(sd) && sd > 0 && double.IsFinite(value.Mean))
         {
             var decimals = 1 - (int)Math.Floor(Math.Log10(sd));
             text = $"{Rounded(value.Mean, decimals)} ± {Rounded(sd, decimals)}";

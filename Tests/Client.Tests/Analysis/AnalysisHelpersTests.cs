@@ -15,7 +15,9 @@ public sealed class AnalysisHelpersTests
     [InlineData(99.53, 8.457, "Pa", "99.5 ± 8.5 Pa")]
     [InlineData(1234.56, 0.5, null, "1,234.56 ± 0.50")]
     [InlineData(-0.0731, 0.00244, null, "-0.0731 ± 0.0024")]
-    public void A_prediction_shows_its_sd_to_two_significant_digits_and_the_mean_to_the_same_place(double mean, double sd, string? unit, string expected) =>
+    [InlineData(0.19019, 0.000001, "K/W", "0.1902 ± 1e-6 K/W")]
+    [InlineData(611.34, 0.0021, "g", "611.3 ± 0.0021 g")]
+    public void A_prediction_shows_its_sd_to_two_significant_digits_and_the_mean_to_the_same_place_unless_the_sd_is_negligible(double mean, double sd, string? unit, string expected) =>
         Assert.Equal(expected, AnalysisText.Predicted(new PredictedValueDto(mean, sd), unit));
 
     [Fact]

@@ -1,4 +1,5 @@
 using Bunit;
+using Runfold.Client.Components;
 using Runfold.Client.Pages;
 using Runfold.Shared.Studies;
 using Runfold.Tests.Samples;
@@ -78,7 +79,7 @@ public sealed class CandidatesViewTests : AnalysisTestContext
         cut.Find("#confirm-verify").Click();
         var wave = Assert.Single(Analysis.Waves);
         Assert.Equal(("verify", 5, 1), (wave.Kind, wave.CandidateRank, wave.Count));
-        Assert.Equal("Run 44 will verify candidate 5; claim it on the run board.", cut.Find(".notice-ok").TextContent);
+        Assert.Equal("Run 44 will verify candidate 5 of analysis 5; claim it on the run board.", cut.Find(".notice-ok").TextContent);
         Assert.Empty(cut.FindAll("[role=dialog]"));
     }
 
@@ -111,6 +112,73 @@ public sealed class CandidatesViewTests : AnalysisTestContext
         Assert.Contains("The verification run is claimed", rows[3].TextContent, StringComparison.Ordinal);
         Assert.Contains("outside the CV error", rows[4].TextContent, StringComparison.Ordinal);
         Assert.Contains("K/W", rows[0].TextContent, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void The_verification_table_shows_the_prediction_made_when_the_run_was_added()
+    {
+        var (_, snapshot) = Serve();
+        var first = snapshot.Candidates[0].Verification!.Responses![0];
+        var cut = Render<CandidatesPage>(p => p.Add(c => c.StudyId, 1));
+        Assert.Contains("Predicted then", cut.Find(".verification thead").TextContent, StringComparison.Ordinal);
+        var cells = cut.FindAll(".verification tbody tr")[0].QuerySelectorAll("td");
+        Assert.Equal(Formats.WithUnit(first.Predicted, "K/W"), cells[2].TextContent);
+        Assert.Equal(Formats.WithUnit(first.Observed, "K/W"), cells[3].TextContent);
+    }
+
+    [Fact]
+    public void The_lead_adds_a_next_wave_aimed_where_a_response_is_least_known_and_is_told_which_runs_came()
+    {
+        var (_, snapshot) = Serve();
+        Analysis.Wave = Outcome<IReadOnlyList<RunDto>>.Ok([
+            new RunDto(601, 45, 4, RunState.Open, snapshot.Candidates[0].Factors),
+            new RunDto(602, 44, 4, RunState.Open, snapshot.Candidates[1].Factors),
+        ]);
+        var cut = Render<CandidatesPage>(p => p.Add(c => c.StudyId, 1));
+        Assert.Contains("Expected improvement", cut.Find(".next-wave").TextContent, StringComparison.Ordinal);
+        cut.Find("#wave-count").Change("2");
+        cut.Find("#wave-aim").Change("Unsure");
+        cut.Find("#wave-response").Change("pressure_drop");
+        Assert.Contains("Largest predictive standard deviation", cut.Find(".next-wave").TextContent, StringComparison.Ordinal);
+        cut.Find("#add-wave").Click();
+        var wave = Assert.Single(Analysis.Waves);
+        Assert.Equal(("infill", 2, "variance", null, "pressure_drop"), (wave.Kind, wave.Count, wave.Criterion, wave.CandidateRank, wave.Response));
+        Assert.Equal("Runs 44–45 were added as wave 4; claim them on the run board.", cut.Find(".next-wave .notice-ok").TextContent);
+
+        // Gaps between runs name no response.
+        cut.Find("#wave-aim").Change("Gaps");
+        Assert.Empty(cut.FindAll("#wave-response"));
+        cut.Find("#add-wave").Click();
+        Assert.Equal(("maximin", (string?)null), (Analysis.Waves[^1].Criterion, Analysis.Waves[^1].Response));
+    }
+
+    [Fact]
+    public void A_refused_next_wave_is_a_sentence_and_readers_without_the_lead_role_get_no_wave_panel()
+    {
+        Serve();
+        Analysis.Wave = Outcome<IReadOnlyList<RunDto>>.Unprocessable(ValidationErrors.Single("kind", "Analysis 5 has no surrogate of any response yet."));
+        var cut = Render<CandidatesPage>(p => p.Add(c => c.StudyId, 1));
+        cut.Find("#add-wave").Click();
+        Assert.Equal(("infill", 4, "expectedImprovement"), (Analysis.Waves[0].Kind, Analysis.Waves[0].Count, Analysis.Waves[0].Criterion));
+        Assert.Equal("Analysis 5 has no surrogate of any response yet.", cut.Find(".next-wave .notice-error").TextContent);
+
+        Serve(StudyRole.Analyst);
+        var analyst = Render<CandidatesPage>(p => p.Add(c => c.StudyId, 1));
+        Assert.Empty(analyst.FindAll(".next-wave"));
+    }
+
+    [Fact]
+    public void Without_candidates_the_page_gives_the_searchs_reason()
+    {
+        var (study, runs) = SampleAnalysis.HeatSink();
+        Catalog.Study = Outcome<StudyDetail>.Ok(study);
+        Analysis.Latest = Outcome<AnalysisSnapshotDto?>.Ok(SampleAnalysis.Snapshot(study, runs, candidateCount: 0) with
+        {
+            CandidateNotes = ["No response has a goal or a limit, so there is nothing to rank designs by; give a response a goal in the study's set-up."],
+        });
+        var cut = Render<CandidatesPage>(p => p.Add(c => c.StudyId, 1));
+        Assert.Contains("give a response a goal", cut.Find("[aria-label=Candidates]").TextContent, StringComparison.Ordinal);
+        Assert.DoesNotContain("No candidates yet", cut.Find("[aria-label=Candidates]").TextContent, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -1,5 +1,6 @@
 using System.Diagnostics;
 using System.Net;
+using System.Text.Json;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
 using Runfold.Server.Analysis;
@@ -202,17 +203,22 @@ public sealed class LiveAnalysisTests(LiveAnalysisFixture fixture) : IClassFixtu
     }
 
     [Fact]
-    public async Task Waves_other_than_augment_wait_for_the_optimisation_stage_and_a_bad_request_is_named()
+    public async Task Infill_and_verify_waves_need_an_analysis_and_a_bad_request_is_named()
     {
         var study = await TestTeam.CreateStudyAsync(App, AnalysisKit.Study("Wave kinds"));
         using var lead = App.AdminClient();
         foreach (var (request, status, field, text) in new (object Request, HttpStatusCode Status, string Field, string Text)[]
                  {
-                     (new { kind = "infill", criterion = "expectedImprovement" }, HttpStatusCode.UnprocessableEntity, "kind", "needs the optimisation stage"),
-                     (new { kind = "verify", candidateRank = 1 }, HttpStatusCode.UnprocessableEntity, "kind", "needs the optimisation stage"),
+                     (new { kind = "infill", criterion = "expectedImprovement" }, HttpStatusCode.UnprocessableEntity, "kind", "has no analysis yet"),
+                     (new { kind = "verify", candidateRank = 1 }, HttpStatusCode.UnprocessableEntity, "candidateRank", "has no analysis yet"),
                      (new { kind = "more" }, HttpStatusCode.BadRequest, "kind", "'more' is not a kind of wave"),
                      (new { kind = "augment", count = 0 }, HttpStatusCode.BadRequest, "count", "at least one run"),
                      (new { kind = "augment", criterion = "variance" }, HttpStatusCode.BadRequest, "criterion", "maximin"),
+                     (new { kind = "infill", criterion = "luck" }, HttpStatusCode.BadRequest, "criterion", "'luck' is not an infill criterion"),
+                     (new { kind = "infill", count = 51 }, HttpStatusCode.BadRequest, "count", "at most 50 runs"),
+                     (new { kind = "infill", response = "noise" }, HttpStatusCode.UnprocessableEntity, "kind", "has no analysis yet"),
+                     (new { kind = "augment", candidateRank = 2 }, HttpStatusCode.BadRequest, "candidateRank", "belongs to verify waves"),
+                     (new { kind = "verify", criterion = "variance" }, HttpStatusCode.BadRequest, "criterion", "leave criterion out"),
                  })
         {
             var response = await lead.PostJsonAsync($"/api/studies/{study.Id}/waves", request);
@@ -222,6 +228,104 @@ public sealed class LiveAnalysisTests(LiveAnalysisFixture fixture) : IClassFixtu
         }
         await using var db = App.Db();
         Assert.Equal(1, await db.Waves.CountAsync(w => w.StudyId == study.Id));
+    }
+
+    [Fact]
+    public async Task An_infill_wave_follows_the_latest_snapshot_and_keeps_clear_of_every_run()
+    {
+        var study = await TestTeam.CreateStudyAsync(App, AnalysisKit.Study("Infill"));
+        using var lead = App.AdminClient();
+        foreach (var run in study.Runs!.Take(9)) await AnalysisKit.PostAsync(lead, run);
+        var version = await AnalysisKit.ResultSetVersionAsync(App, study.Id);
+        var snapshot = await AnalysisKit.WaitForAsync(lead, study.Id, s => s.ResultSetVersion == version && s.Candidates.Count > 0, "with candidates");
+
+        var response = await lead.PostJsonAsync($"/api/studies/{study.Id}/waves", new WaveRequest("infill", Count: 3));
+        Assert.True(response.StatusCode == HttpStatusCode.Created, await response.Content.ReadAsStringAsync());
+        var added = await response.ReadAsync<List<RunDto>>();
+        Assert.Equal([13, 14, 15], added.Select(r => r.Number));
+        Assert.All(added, r => Assert.Equal((2, RunState.Open), (r.Wave, r.State)));
+        // Inside the ranges, and apart from the done runs, the three open ones and each other.
+        (double, double) At(RunDto r) => (r.Factors["fin_height"].Number, r.Factors["air_velocity"].Number);
+        var others = study.Runs!.Concat(added).ToList();
+        foreach (var run in added)
+        {
+            var (h, v) = At(run);
+            Assert.InRange(h, 20, 60);
+            Assert.InRange(v, 1, 6);
+            Assert.All(others.Where(o => o.Number != run.Number), o => Assert.True(
+                Math.Abs(At(o).Item1 - h) / 40 + Math.Abs(At(o).Item2 - v) / 5 > 1e-3, $"run {run.Number} lies on run {o.Number}"));
+        }
+        var wave = Assert.Single(await TestTeam.EventsAsync(App, study.Id, "wave.added"));
+        Assert.Equal($"admin added wave 2: 3 infill runs chosen by expected improvement of the overall desirability on analysis {snapshot.Version}, runs 13–15", wave.Detail);
+        await using (var db = App.Db())
+        {
+            var stored = await db.Waves.AsNoTracking().SingleAsync(w => w.StudyId == study.Id && w.Number == 2);
+            Assert.Equal(WaveKind.Infill, stored.Kind);
+            var record = JsonSerializer.Deserialize<InfillWaveRecord>(stored.RequestJson!, RunfoldJson.Options)!;
+            Assert.Equal(("expectedImprovement", snapshot.Version), (record.Criterion, record.SnapshotVersion));
+            Assert.Equal([13, 14, 15], record.Runs.Select(r => r.RunNumber));
+            Assert.All(record.Runs, r => Assert.Contains("expected improvement", r.Reason, StringComparison.Ordinal));
+        }
+        version = await AnalysisKit.ResultSetVersionAsync(App, study.Id);
+        snapshot = await AnalysisKit.WaitForAsync(lead, study.Id, s => s.ResultSetVersion == version, "after the wave");
+        Assert.Equal((9, 15), (snapshot.BasedOnRuns, snapshot.TotalRuns));
+
+        // Aimed at one response's uncertainty.
+        response = await lead.PostJsonAsync($"/api/studies/{study.Id}/waves", new WaveRequest("infill", Count: 1, Criterion: "variance", Response: "Pressure_Drop"));
+        Assert.True(response.StatusCode == HttpStatusCode.Created, await response.Content.ReadAsStringAsync());
+        Assert.Equal(16, Assert.Single(await response.ReadAsync<List<RunDto>>()).Number);
+        var events = await TestTeam.EventsAsync(App, study.Id, "wave.added");
+        Assert.Contains(events, e => e.Detail.Contains("1 infill run chosen where the surrogate of pressure_drop is least sure", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task A_verification_run_is_compared_with_the_prediction_made_when_it_was_added()
+    {
+        var study = await TestTeam.CreateStudyAsync(App, AnalysisKit.Study("Verify"));
+        using var lead = App.AdminClient();
+        foreach (var done in study.Runs!) await AnalysisKit.PostAsync(lead, done);
+        var version = await AnalysisKit.ResultSetVersionAsync(App, study.Id);
+        var before = await AnalysisKit.WaitForAsync(lead, study.Id, s => s.ResultSetVersion == version && s.Candidates.Count > 0, "with candidates");
+        var best = before.Candidates.Single(c => c.Rank == 1);
+        Assert.Null(best.Verification);
+        Assert.All(before.Candidates, c => Assert.True(c.Desirability is >= 0 and <= 1));
+        Assert.Equal(before.Candidates.Max(c => c.Desirability), best.Desirability);
+
+        var response = await lead.PostJsonAsync($"/api/studies/{study.Id}/waves", new WaveRequest("verify", CandidateRank: 1));
+        Assert.True(response.StatusCode == HttpStatusCode.Created, await response.Content.ReadAsStringAsync());
+        var run = Assert.Single(await response.ReadAsync<List<RunDto>>());
+        Assert.Equal((13, 2), (run.Number, run.Wave));
+        foreach (var (factor, value) in best.Factors) Assert.Equal(value.Number, run.Factors[factor].Number, 9);
+        // Asked again before the next snapshot shows it: the stored run answers.
+        response = await lead.PostJsonAsync($"/api/studies/{study.Id}/waves", new WaveRequest("verify", CandidateRank: 1));
+        Assert.Equal(HttpStatusCode.UnprocessableEntity, response.StatusCode);
+        Assert.Contains("already has verification run 13 (open)", (await response.ReadAsync<ValidationProblem>()).Errors["candidateRank"][0], StringComparison.Ordinal);
+
+        version = await AnalysisKit.ResultSetVersionAsync(App, study.Id);
+        var verifying = await AnalysisKit.WaitForAsync(lead, study.Id, s => s.ResultSetVersion == version, "with the verification run");
+        var pending = Assert.Single(verifying.Candidates, c => c.Verification is not null);
+        Assert.Equal((13, RunState.Open, (IReadOnlyList<VerificationValueDto>?)null), (pending.Verification!.RunNumber, pending.Verification.State, pending.Verification.Responses));
+
+        await AnalysisKit.PostAsync(lead, run);
+        version = await AnalysisKit.ResultSetVersionAsync(App, study.Id);
+        var after = await AnalysisKit.WaitForAsync(lead, study.Id, s => s.ResultSetVersion == version, "with the verification result");
+        var verified = Assert.Single(after.Candidates, c => c.Verification is not null);
+        Assert.Equal(0, verified.NearestRunDistance, 9);
+        Assert.False(verified.Extrapolating);
+        var observed = AnalysisKit.Values(run);
+        var cvRmse = before.Responses.ToDictionary(r => r.Name, r => r.Model!.CvRmse);
+        Assert.Equal(["mass", "pressure_drop", "thermal_resistance"], verified.Verification!.Responses!.Select(v => v.Response).Order());
+        foreach (var v in verified.Verification.Responses!)
+        {
+            // The prediction of the snapshot the candidate came from, not of the model that has seen the run since.
+            Assert.Equal(best.Predicted[v.Response].Mean, v.Predicted);
+            Assert.Equal(observed[v.Response], v.Observed, 12);
+            Assert.Equal(v.Observed - v.Predicted, v.Error, 12);
+            Assert.Equal(cvRmse[v.Response], v.CvRmse);
+            Assert.Equal(Math.Abs(v.Error) <= 2 * v.CvRmse, v.WithinCvError);
+        }
+        var wave = Assert.Single(await TestTeam.EventsAsync(App, study.Id, "wave.added"));
+        Assert.StartsWith($"admin added wave 2: a verification run of candidate 1 of analysis {before.Version} (predicted desirability", wave.Detail, StringComparison.Ordinal);
     }
 
     private static Dictionary<string, FactorValue> Values(double height, double velocity) =>

@@ -126,6 +126,32 @@ public sealed class CandidateSearchTests
         Assert.Equal(one.Candidates.SelectMany(c => c.Coded), two.Candidates.SelectMany(c => c.Coded));
     }
 
+    [Fact]
+    public void Kept_designs_stay_in_the_list_ranked_among_the_others_and_push_near_ones_aside()
+    {
+        var free = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, Quick);
+        // Keep the free search's best design and a poor one (a corner of the box, all fins at their fewest).
+        var best = free.Candidates[0].Coded.ToArray();
+        var corner = Runs().Row(0).ToArray();
+        var kept = CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, Quick with { Keep = [best, corner] });
+        Assert.Equal(free.Candidates.Count + 2, kept.Candidates.Count);
+        Assert.Equal(Enumerable.Range(1, kept.Candidates.Count), kept.Candidates.Select(c => c.Rank));
+        var first = Assert.Single(kept.Candidates, c => c.Kept == 0);
+        var second = Assert.Single(kept.Candidates, c => c.Kept == 1);
+        Assert.Equal(best, first.Coded);
+        Assert.Equal(corner, second.Coded);
+        Assert.Equal(free.Candidates[0].Desirability, first.Desirability, 12);
+        // Ranked by desirability like the others, and no chosen design within the minimum distance of a kept one.
+        Assert.All(kept.Candidates.Zip(kept.Candidates.Skip(1)), p => Assert.True(p.First.Desirability >= p.Second.Desirability));
+        var minDistance = 0.1 * Math.Sqrt(Space.Count);
+        foreach (var c in kept.Candidates.Where(c => c.Kept is null))
+        {
+            Assert.True(Distance(c.Coded, best) >= minDistance - 1e-12);
+            Assert.True(Distance(c.Coded, corner) >= minDistance - 1e-12);
+        }
+        Assert.Throws<ArgumentException>(() => CandidateSearch.Find(Space, Objectives(), Runs(), Constraints, Quick with { Keep = [[0.0, 0.0]] }));
+    }
+
     private static double Distance(IReadOnlyList<double> a, IReadOnlyList<double> b) =>
         Math.Sqrt(a.Zip(b, (x, y) => (x - y) * (x - y)).Sum());
 }
