@@ -46,6 +46,11 @@ if [ ! -x "$chromium" ]; then
 fi
 export RUNFOLD_CHROMIUM="$chromium"
 
+if ! command -v node >/dev/null || ! command -v npm >/dev/null; then
+    say "Node.js or npm is missing (the schema checks of the deploy files use them); installing Debian's nodejs and npm packages."
+    apt_install nodejs npm || die "Cannot install Node.js here: install Node.js and npm and run again."
+fi
+
 if ! command -v curl >/dev/null; then
     say "curl is missing (the cluster job script under test uses it); installing Debian's curl package."
     apt_install curl || die "Cannot install curl here: install it and run again."

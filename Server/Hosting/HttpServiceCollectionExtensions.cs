@@ -8,7 +8,7 @@ public static class HttpServiceCollectionExtensions
     public static IServiceCollection AddRunfoldHttp(this IServiceCollection services)
     {
         services.ConfigureHttpJsonOptions(o => RunfoldJson.Configure(o.SerializerOptions));
-        services.AddProblemDetails();
+        services.AddProblemDetails(o => o.CustomizeProblemDetails = ProblemSentences.Fill);
         services.AddExceptionHandler<BadRequestExceptionHandler>();
         // Bad bodies throw so BadRequestExceptionHandler can say where the body went wrong.
         services.Configure<Microsoft.AspNetCore.Routing.RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);

@@ -1,5 +1,6 @@
 // Two-level fractional factorial designs 2^(k−p) from published generator tables (Box & Hunter 1961; NIST/SEMATECH
-// e-Handbook of Statistical Methods §5.3.3.4.7), with the defining relation, resolution and alias chains.
+// e-Handbook of Statistical Methods §5.3.3.4.7; Xu 2009 for 256 runs), with the defining relation, resolution and
+// alias chains.
 using System.Globalization;
 using MathNet.Numerics.LinearAlgebra;
 using Runfold.Shared.Studies;
@@ -50,6 +51,7 @@ public static class FractionalFactorial
     private const string Handbook = "NIST/SEMATECH e-Handbook of Statistical Methods, §5.3.3.4.7 (summary table of useful fractional factorial designs)";
     private const string Dataplot = "NIST Dataplot design index DEXRES4 (minimal resolution IV 2^(k−p) designs)";
     private const string Projection = "NIST e-Handbook §5.3.3.4.7, the 2^(15−11) design's first k columns";
+    private const string Xu2009 = "Xu (2009), Technometrics 51:262–277, 256-run minimum-aberration designs (12-4.1, 13-5.1, 14-6.1, 15-7.1)";
 
     // (k, generators as the source prints them: generated factor = product of base factors).
     private static readonly (int K, string Generators, string Source)[] Published =
@@ -81,12 +83,16 @@ public static class FractionalFactorial
         (11, "7=345 8=1234 9=126 10=2456 11=1456", Handbook),
         (11, "6=123 7=234 8=345 9=134 10=145 11=245", Handbook),
         (11, "5=123 6=234 7=134 8=124 9=1234 10=12 11=13", Handbook),
+        (12, "9=1234567 10=12348 11=12568 12=13578", Xu2009),
         (12, "6=123 7=124 8=125 9=134 10=135 11=145 12=234", Dataplot),
         (12, "5=123 6=234 7=134 8=124 9=1234 10=12 11=13 12=14", Projection),
+        (13, "9=1234567 10=12348 11=12568 12=13578 13=1467", Xu2009),
         (13, "6=123 7=124 8=125 9=134 10=135 11=145 12=234 13=235", Dataplot),
         (13, "5=123 6=234 7=134 8=124 9=1234 10=12 11=13 12=14 13=23", Projection),
+        (14, "9=1234567 10=12348 11=12568 12=13578 13=1467 14=1245", Xu2009),
         (14, "6=123 7=124 8=125 9=134 10=135 11=145 12=234 13=235 14=245", Dataplot),
         (14, "5=123 6=234 7=134 8=124 9=1234 10=12 11=13 12=14 13=23 14=24", Projection),
+        (15, "9=1234567 10=12348 11=12568 12=13578 13=1467 14=1245 15=2346", Xu2009),
         (15, "6=123 7=124 8=125 9=134 10=135 11=145 12=234 13=235 14=245 15=345", Dataplot),
         (15, "5=123 6=234 7=134 8=124 9=1234 10=12 11=13 12=14 13=23 14=24 15=34", Handbook),
     ];

@@ -7,6 +7,7 @@ using System.Net.Sockets;
 using System.Text;
 using System.Text.Json;
 using System.Threading.Channels;
+using Microsoft.Playwright;
 using Runfold.Shared.Studies;
 using Runfold.TestFunctions;
 
@@ -20,7 +21,9 @@ namespace Runfold.Benchmarks;
 /// Release build, as deployed) on a throwaway PostgreSQL cluster (see the claims benchmark).
 /// Responses: published test functions of the VLSE (Surjanovic &amp; Bingham) over the Borehole inputs — Borehole
 /// itself, Hartmann-6 of the first six inputs scaled to [0, 1], Ishigami of the first three scaled to [−π, π].
-/// Goal: p95 ≤ 1.5 s to the snapshot. The page-DOM part (10 Chromium pages) comes with the browser benchmarks.
+/// Ten study pages in Debian's Chromium (headless, ten people: five on each instance) follow the study; each upload is
+/// also timed until every one of them shows the new run count in its analysis line, in the DOM.
+/// Goal: p95 ≤ 1.5 s to the snapshot and ≤ 2.5 s to the pages.
 /// </summary>
 public static class AnalysisLatencyBenchmark
 {
@@ -51,10 +54,12 @@ public static class AnalysisLatencyBenchmark
 
         await using var second = await ServerUnderTest.StartAsync(database);
         await using var secondEvents = await SnapshotEvents.OpenAsync(second.Client(), studyId);
+        await using var pages = await StudyPages.OpenAsync([owner.Address, second.Address], studyId, PageCount, $"Analysis based on {Done} of");
 
         var put = new List<double>();
         var toOwner = new List<double>();
         var toSecond = new List<double>();
+        var toPages = new List<double>();
         // Each upload bumps the study's result-set version by one: upload i is analysed in the snapshot of first + i.
         var version = first;
         foreach (var run in runs.Skip(Done).Take(Uploads))
@@ -68,6 +73,7 @@ public static class AnalysisLatencyBenchmark
             toOwner.Add(Stopwatch.GetElapsedTime(started).TotalMilliseconds);
             await secondEvents.WaitForAsync(v => v >= version, TimeSpan.FromMinutes(2));
             toSecond.Add(Stopwatch.GetElapsedTime(started).TotalMilliseconds);
+            toPages.Add(await pages.WaitUntilAllShowAsync($"Analysis based on {Done + (int)(version - first)} of", started));
             await Task.Delay(100); // an upload every few hundred milliseconds, not a burst
         }
 
@@ -77,16 +83,21 @@ public static class AnalysisLatencyBenchmark
         Row("PUT result answered", put);
         Row("snapshot-ready on the refitting instance's stream", toOwner);
         Row("snapshot-ready on the second instance's stream", toSecond);
+        Row($"new run count in the DOM of all {PageCount} Chromium pages", toPages);
         Console.WriteLine($"| first snapshot of {Done} runs, every model compared | {firstSnapshot.TotalMilliseconds:N0} ms | | |");
         var history = (await client.GetFromJsonAsync<List<AnalysisHistoryPointDto>>($"/api/studies/{studyId}/analysis/history", RunfoldJson.Options))!;
         var latest = (await client.GetFromJsonAsync<AnalysisSnapshotDto>($"/api/studies/{studyId}/analysis", RunfoldJson.Options))!;
         Console.WriteLine($"| snapshots stored | {history.Count} (one per upload, and one per background comparison of every model) | | |");
         Console.WriteLine($"| models of the last snapshot compared at | {string.Join(", ", latest.Responses.Select(r => $"{r.Name} {r.Model?.ComparedAtRuns} runs ({r.Model?.Kind})"))} | | |");
         var p95 = Quantile(toOwner, 0.95);
+        var pagesP95 = Quantile(toPages, 0.95);
         Console.WriteLine();
         Console.WriteLine($"Goal: p95 ≤ 1,500 ms to the snapshot: {(p95 <= 1500 ? "met" : "missed")} ({p95:N0} ms).");
-        return p95 <= 1500 ? 0 : 1;
+        Console.WriteLine($"Goal: p95 ≤ 2,500 ms to the pages: {(pagesP95 <= 2500 ? "met" : "missed")} ({pagesP95:N0} ms).");
+        return p95 <= 1500 && pagesP95 <= 2500 ? 0 : 1;
     }
+
+    private const int PageCount = 10;
 
     private static void Row(string what, List<double> milliseconds) =>
         Console.WriteLine($"| {what} | {Quantile(milliseconds, 0.5):N0} ms | {Quantile(milliseconds, 0.95):N0} ms | {milliseconds.Max():N0} ms |");
@@ -170,6 +181,7 @@ public static class AnalysisLatencyBenchmark
             start.Environment["RUNFOLD_DEMO"] = "0";
             start.Environment["RUNFOLD_MAX_RUNS"] = "10000";
             start.Environment["RUNFOLD_TOKEN_PER_MINUTE"] = "100000";
+            start.Environment["RUNFOLD_SIGNIN_PER_MINUTE"] = "1000"; // ten people sign in from one address
             var process = Process.Start(start) ?? throw new InvalidOperationException("The server did not start.");
             process.OutputDataReceived += (_, _) => { };
             process.ErrorDataReceived += (_, e) => { if (e.Data is { Length: > 0 } line) Console.Error.WriteLine("  server: " + line); };
@@ -214,6 +226,63 @@ public static class AnalysisLatencyBenchmark
             using var listener = new TcpListener(IPAddress.Loopback, 0);
             listener.Start();
             return ((IPEndPoint)listener.LocalEndpoint).Port;
+        }
+    }
+
+    /// <summary>Study pages in headless Chromium, each in a context of its own (one person each), spread over the
+    /// given server instances.</summary>
+    private sealed class StudyPages : IAsyncDisposable
+    {
+        private const string ShowsText = "t => { const e = document.querySelector('.snapshot-basis'); return !!e && e.textContent.includes(t); }";
+        private readonly IPlaywright _playwright;
+        private readonly IBrowser _browser;
+        private readonly List<IPage> _pages;
+
+        private StudyPages(IPlaywright playwright, IBrowser browser, List<IPage> pages) => (_playwright, _browser, _pages) = (playwright, browser, pages);
+
+        public static async Task<StudyPages> OpenAsync(IReadOnlyList<Uri> servers, int studyId, int count, string shown)
+        {
+            var playwright = await Playwright.CreateAsync();
+            var browser = await playwright.Chromium.LaunchAsync(new BrowserTypeLaunchOptions
+            {
+                ExecutablePath = Environment.GetEnvironmentVariable("RUNFOLD_CHROMIUM") ?? "/usr/bin/chromium",
+                Headless = true,
+                Args =
+                [
+                    "--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+                    "--disable-sync", "--no-first-run", "--disable-quic", "--disable-dev-shm-usage",
+                ],
+            });
+            var pages = new List<IPage>(count);
+            for (var i = 0; i < count; i++)
+            {
+                var server = servers[i % servers.Count];
+                var context = await browser.NewContextAsync(new BrowserNewContextOptions { ViewportSize = new ViewportSize { Width = 1280, Height = 800 } });
+                var page = await context.NewPageAsync();
+                await page.GotoAsync(new Uri(server, "/signin").ToString());
+                await page.FillAsync("#token", Token);
+                await page.ClickAsync("button[type=submit]");
+                await page.WaitForSelectorAsync("h1:has-text('Studies')");
+                await page.GotoAsync(new Uri(server, $"/studies/{studyId}").ToString());
+                await page.WaitForFunctionAsync(ShowsText, shown, new PageWaitForFunctionOptions { Timeout = 120_000 });
+                pages.Add(page);
+            }
+            Console.WriteLine($"{count} study pages open in Chromium, {count / servers.Count} on each instance.");
+            return new StudyPages(playwright, browser, pages);
+        }
+
+        /// <summary>Milliseconds from <paramref name="started"/> until the last page shows <paramref name="text"/>.</summary>
+        public async Task<double> WaitUntilAllShowAsync(string text, long started)
+        {
+            var options = new PageWaitForFunctionOptions { PollingInterval = 10, Timeout = 120_000 };
+            await Task.WhenAll(_pages.Select(p => p.WaitForFunctionAsync(ShowsText, text, options)));
+            return Stopwatch.GetElapsedTime(started).TotalMilliseconds;
+        }
+
+        public async ValueTask DisposeAsync()
+        {
+            await _browser.DisposeAsync();
+            _playwright.Dispose();
         }
     }
 

@@ -45,9 +45,24 @@ public sealed class StudiesPageTests : IAsyncLifetime
         await card.Locator("a.study-name").ClickAsync();
         await Assertions.Expect(page.Locator("h1")).ToHaveTextAsync("Plate-fin heat sink for the inverter module");
         await Assertions.Expect(page.Locator("table").First).ToContainTextAsync("fin_height");
-        // The table renders only the rows in view; the demo's open runs are the highest-numbered, at its end.
-        await page.Locator(".grid-scroll").EvaluateAsync("e => { e.scrollTop = e.scrollHeight; }");
-        await Assertions.Expect(page.Locator(".grid-scroll .pill-open").First).ToBeVisibleAsync();
+        // The table renders only the rows in view; the demo's open runs are the highest-numbered, at its end. Its
+        // rows come after the page's first render, so it is scrolled once they are there.
+        var grid = page.Locator(".grid-scroll");
+        await Assertions.Expect(grid.Locator(".pill").First).ToBeVisibleAsync();
+        await grid.EvaluateAsync("e => { e.scrollTop = e.scrollHeight; }");
+        await Assertions.Expect(grid.Locator(".pill-open").First).ToBeVisibleAsync();
+        var scrolled = await grid.EvaluateAsync<double>("e => e.scrollTop");
+
+        // A claim elsewhere re-reads the runs: the reader keeps their place in the table.
+        using (var admin = new HttpClient { BaseAddress = _server.Address })
+        {
+            admin.DefaultRequestHeaders.Authorization = new System.Net.Http.Headers.AuthenticationHeaderValue("Bearer", ServerProcess.AdminToken);
+            var claim = await admin.PostAsync("/api/studies/1/claims", new StringContent("{\"count\":1}", System.Text.Encoding.UTF8, "application/json"));
+            Assert.True(claim.IsSuccessStatusCode, await claim.Content.ReadAsStringAsync());
+        }
+        await Assertions.Expect(page.Locator(".state-bar")).ToHaveAttributeAsync("aria-label", new System.Text.RegularExpressions.Regex(@", 3 claimed,"));
+        await Assertions.Expect(grid.Locator(".pill-open").First).ToBeVisibleAsync();
+        Assert.Equal(scrolled, await grid.EvaluateAsync<double>("e => e.scrollTop"), 1);
         await ChromiumBrowser.ScreenshotAsync(page, "study-page");
         Assert.True(problems.Count == 0, "The browser reported problems:\n" + string.Join("\n", problems));
     }

@@ -13,6 +13,18 @@ public sealed class ServerProcess : IAsyncDisposable
 {
     public const string AdminToken = "rf_browser_admin_token_0123456789";
 
+    /// <summary>Every server still running. xunit does not dispose a test class whose InitializeAsync threw, so
+    /// whatever is left when the test process ends is stopped then.</summary>
+    private static readonly HashSet<Process> Running = [];
+
+    static ServerProcess() => AppDomain.CurrentDomain.ProcessExit += (_, _) =>
+    {
+        lock (Running)
+            foreach (var process in Running)
+                try { if (!process.HasExited) process.Kill(entireProcessTree: true); }
+                catch (InvalidOperationException) { /* already gone */ }
+    };
+
     private readonly Process _process;
     private readonly StringBuilder _output = new();
     private readonly string _dataFolder;
@@ -55,12 +67,21 @@ public sealed class ServerProcess : IAsyncDisposable
         foreach (var (key, value) in environment ?? new Dictionary<string, string>()) start.Environment[key] = value;
 
         var process = Process.Start(start) ?? throw new InvalidOperationException("The server process did not start.");
+        lock (Running) Running.Add(process);
         var server = new ServerProcess(process, address, dataFolder);
         process.OutputDataReceived += (_, e) => server.Append(e.Data);
         process.ErrorDataReceived += (_, e) => server.Append(e.Data);
         process.BeginOutputReadLine();
         process.BeginErrorReadLine();
-        await server.WaitUntilHealthyAsync(TimeSpan.FromSeconds(90));
+        try
+        {
+            await server.WaitUntilHealthyAsync(TimeSpan.FromSeconds(90));
+        }
+        catch
+        {
+            await server.DisposeAsync();
+            throw;
+        }
         return server;
     }
 
@@ -124,6 +145,7 @@ public sealed class ServerProcess : IAsyncDisposable
             _process.Kill(entireProcessTree: true);
             await _process.WaitForExitAsync();
         }
+        lock (Running) Running.Remove(_process);
         _process.Dispose();
         try { Directory.Delete(_dataFolder, recursive: true); }
         catch (IOException) { /* the OS cleans the temp folder */ }

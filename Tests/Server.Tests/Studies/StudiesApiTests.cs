@@ -169,6 +169,35 @@ public sealed class StudiesApiTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task Errors_the_framework_raises_itself_are_problem_details_with_a_sentence()
+    {
+        using var client = _app.AdminClient();
+        foreach (var (request, status, sentence) in new (HttpRequestMessage, HttpStatusCode, string)[]
+                 {
+                     (new(HttpMethod.Get, "/api/no-such-thing"), HttpStatusCode.NotFound, "Nothing answers GET /api/no-such-thing; the API reference at /api-docs lists every address."),
+                     (new(HttpMethod.Delete, "/api/studies"), HttpStatusCode.MethodNotAllowed, "/api/studies does not take DELETE; the API reference at /api-docs says what it takes."),
+                 })
+        {
+            var response = await client.SendAsync(request);
+            Assert.Equal(status, response.StatusCode);
+            Assert.Equal("application/problem+json", response.Content.Headers.ContentType?.MediaType);
+            using var problem = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
+            Assert.Equal(sentence, problem.RootElement.GetProperty("detail").GetString());
+            Assert.Equal((int)status, problem.RootElement.GetProperty("status").GetInt32());
+        }
+        // A service's own sentence is kept.
+        var missing = await client.GetAsync("/api/studies/987654");
+        using var own = JsonDocument.Parse(await missing.Content.ReadAsStringAsync());
+        Assert.Contains("no study 987654", own.RootElement.GetProperty("detail").GetString(), StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData(500)]
+    [InlineData(503)]
+    public void A_server_failure_says_the_request_was_not_completed(int status) =>
+        Assert.StartsWith("Something went wrong on the server and the request was not completed", Runfold.Server.Hosting.ProblemSentences.For(status, "PUT", "/api/runs/1/result"), StringComparison.Ordinal);
+
+    [Fact]
     public async Task Health_reports_the_database()
     {
         using var client = _app.ClientWithToken(null);

@@ -57,11 +57,13 @@ public sealed class DesignBuilderTests
     [Fact]
     public void A_central_composite_over_the_limit_suggests_a_space_filling_design()
     {
-        var refused = DesignBuilder.Build(DoeFixtures.Unit(14), new DesignSpec(DesignMethod.CentralComposite));
+        // 14 factors: the 256-run resolution-V core (Xu 2009) + 28 axial + 1 centre = 285 runs, over a limit of 200.
+        var refused = DesignBuilder.Build(DoeFixtures.Unit(14), new DesignSpec(DesignMethod.CentralComposite), new DesignLimits(MaxRuns: 200));
         Assert.Equal(OutcomeKind.Unprocessable, refused.Kind);
         var message = refused.Errors!["design"][0];
-        Assert.Contains("16,413 runs", message, StringComparison.Ordinal); // 2^14 (no resolution V fraction in the table) + 28 + 1
+        Assert.Contains("285 runs", message, StringComparison.Ordinal);
         Assert.Contains("latinHypercube or sobol", message, StringComparison.Ordinal);
+        Assert.Equal(285, DesignBuilder.Build(DoeFixtures.Unit(14), new DesignSpec(DesignMethod.CentralComposite)).Value!.Matrix.RunCount);
     }
 
     public static TheoryData<DesignSpec, string, string> BadSpecs => new()

@@ -40,7 +40,28 @@ public sealed class FractionalFactorialTests
         // NIST Dataplot design index DEXRES4 (minimal-run resolution IV designs), 32 runs for 12 to 15 factors.
         { 12, 7, 4, "6 = 123, 7 = 124, 8 = 125, 9 = 134, 10 = 135, 11 = 145, 12 = 234" },
         { 15, 10, 4, "6 = 123, 7 = 124, 8 = 125, 9 = 134, 10 = 135, 11 = 145, 12 = 234, 13 = 235, 14 = 245, 15 = 345" },
+        // Xu (2009), Technometrics 51:262–277, the 256-run minimum-aberration designs 12-4.1 … 15-7.1 (columns as
+        // transcribed in the csw93 catalogue's xu_256.txt: 127 143 179 213 105 27 46, bit j = base factor j + 1).
+        { 12, 4, 6, "9 = 1234567, 10 = 12348, 11 = 12568, 12 = 13578" },
+        { 13, 5, 5, "9 = 1234567, 10 = 12348, 11 = 12568, 12 = 13578, 13 = 1467" },
+        { 14, 6, 5, "9 = 1234567, 10 = 12348, 11 = 12568, 12 = 13578, 13 = 1467, 14 = 1245" },
+        { 15, 7, 5, "9 = 1234567, 10 = 12348, 11 = 12568, 12 = 13578, 13 = 1467, 14 = 1245, 15 = 2346" },
     };
+
+    /// <summary>Xu (2009) prints each design's word-length pattern (A4, A5, …) beside its columns: the counts of
+    /// the defining relation's words by length, computed here from all 2^p − 1 words.</summary>
+    [Theory]
+    [InlineData(12, 4, new[] { 0, 0, 12, 0, 3 })]
+    [InlineData(13, 5, new[] { 0, 3, 12, 12, 3 })]
+    [InlineData(14, 6, new[] { 0, 9, 18, 16, 7 })]
+    [InlineData(15, 7, new[] { 0, 15, 30, 26, 15 })]
+    public void The_256_run_fractions_have_the_published_word_length_pattern(int k, int p, int[] fromA4)
+    {
+        var plan = Assert.Single(FractionalFactorial.For(k), f => f.Fraction == p);
+        var lengths = plan.Words.Select(w => System.Numerics.BitOperations.PopCount((ulong)w)).ToList();
+        Assert.Equal(fromA4, Enumerable.Range(4, fromA4.Length).Select(length => lengths.Count(l => l == length)));
+        Assert.Equal(256, plan.Runs);
+    }
 
     [Theory]
     [MemberData(nameof(HandbookTable))]
@@ -77,6 +98,8 @@ public sealed class FractionalFactorialTests
     [InlineData(9, 5, 128)]  // 2^(9−2) VI is the smallest of resolution ≥ V
     [InlineData(11, 5, 128)] // 2^(11−4) V
     [InlineData(12, 4, 32)]  // Dataplot DEXRES4: 2^(12−7) IV
+    [InlineData(12, 5, 256)] // Xu 2009: 2^(12−4) VI is the smallest of resolution ≥ V
+    [InlineData(15, 5, 256)] // Xu 2009: 2^(15−7) V
     [InlineData(3, 4, 8)]    // no half fraction of resolution IV for 3 factors: the full 2^3
     public void A_requested_minimum_resolution_gets_the_smallest_fraction_that_meets_it(int k, int resolution, int runs)
     {
