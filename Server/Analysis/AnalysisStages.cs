@@ -52,4 +52,11 @@ public sealed class AnalysisWork(AnalysisInput input, IReadOnlyList<ResponseMode
 
     /// <summary>The best candidate's desirability, for the convergence view.</summary>
     public double? BestDesirability { get; set; }
+
+    /// <summary>How long each part took ("fits", then each stage by name), for the log line of the snapshot.</summary>
+    public List<(string Part, TimeSpan Took)> Timings { get; } = [];
+
+    /// <summary>"fits 84 ms, sensitivity 310 ms, candidates 298 ms".</summary>
+    public string DescribeTimings() =>
+        string.Join(", ", Timings.Select(t => $"{t.Part} {t.Took.TotalMilliseconds.ToString("N0", System.Globalization.CultureInfo.InvariantCulture)} ms"));
 }

@@ -56,6 +56,7 @@ public sealed partial class SnapshotBuilder(
         var stageWeight = _stages.Sum(s => Math.Max(s.Weight, 0));
         var fittedUpTo = 5 + 90 * responses / Math.Max(responses + stageWeight, 1e-9);
         var models = new List<ResponseModel>(responses);
+        var clock = System.Diagnostics.Stopwatch.StartNew();
         for (var i = 0; i < responses; i++)
         {
             var response = input.Responses[i];
@@ -64,13 +65,16 @@ public sealed partial class SnapshotBuilder(
             models.Add(FitResponse(input, response, choices?.Of(response.Name), choices is null, part, cancellationToken));
         }
         var work = new AnalysisWork(input, models);
+        work.Timings.Add(("fits", clock.Elapsed));
         var at = fittedUpTo;
         foreach (var later in _stages)
         {
             var share = stageWeight > 0 ? (95 - fittedUpTo) * Math.Max(later.Weight, 0) / stageWeight : 0;
             var part = progress.Part(later.Name, at, at + share);
             part.Report(0);
+            clock.Restart();
             await later.RunAsync(work, part, cancellationToken);
+            work.Timings.Add((later.Name, clock.Elapsed));
             at += share;
         }
         return work;

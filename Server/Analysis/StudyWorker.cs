@@ -290,7 +290,9 @@ internal sealed partial class StudyWorker(int studyId, AnalysisCoordinator.Worke
         parts.Models.Put(new SnapshotModels(studyId, stored.Snapshot.Version, input.Space, stored.Models));
         parts.Live.Publish(new StudyLiveEvent(studyId, StudyLiveEventKind.Snapshot, input.ResultSetVersion, stored.Snapshot.Version));
         parts.Statistics.Stored();
-        RunfoldMetrics.RefitDuration(Stopwatch.GetElapsedTime(started));
+        var took = Stopwatch.GetElapsedTime(started);
+        Log.SnapshotStored(parts.Logger, studyId, stored.Snapshot.Version, stored.Snapshot.BasedOnRuns, (long)took.TotalMilliseconds, work.DescribeTimings());
+        RunfoldMetrics.RefitDuration(took);
         if (input.NewestResultAt is { } newest) RunfoldMetrics.SnapshotLag(stored.Snapshot.ComputedAt - newest);
         if (ComparisonDue(work, before)) StartComparison(input, stopping);
     }
@@ -373,5 +375,8 @@ internal sealed partial class StudyWorker(int studyId, AnalysisCoordinator.Worke
 
         [LoggerMessage(Level = LogLevel.Warning, Message = "Study {StudyId}: the background comparison of every model failed")]
         public static partial void ComparisonFailed(ILogger logger, int studyId, Exception exception);
+
+        [LoggerMessage(Level = LogLevel.Information, Message = "Study {StudyId}: snapshot {Version} of {Runs} runs stored {Milliseconds} ms after the refit started ({Timings})")]
+        public static partial void SnapshotStored(ILogger logger, int studyId, int version, int runs, long milliseconds, string timings);
     }
 }

@@ -84,6 +84,11 @@ public static class AnalysisLatencyBenchmark
         Row("snapshot-ready on the refitting instance's stream", toOwner);
         Row("snapshot-ready on the second instance's stream", toSecond);
         Row($"new run count in the DOM of all {PageCount} Chromium pages", toPages);
+        // Where a refit's time goes, from the refitting instance's log line of each snapshot of the uploads.
+        var parts = owner.SnapshotLines.Skip(1)
+            .SelectMany(line => System.Text.RegularExpressions.Regex.Matches(line, @"(\w[\w ]*?) ([\d,]+) ms(?=[,)])").Select(m => (Part: m.Groups[1].Value.Trim(), Ms: double.Parse(m.Groups[2].Value, NumberStyles.AllowThousands, CultureInfo.InvariantCulture))))
+            .GroupBy(p => p.Part).ToList();
+        foreach (var part in parts) Row($"refit part: {part.Key}", [.. part.Select(p => p.Ms)]);
         Console.WriteLine($"| first snapshot of {Done} runs, every model compared | {firstSnapshot.TotalMilliseconds:N0} ms | | |");
         var history = (await client.GetFromJsonAsync<List<AnalysisHistoryPointDto>>($"/api/studies/{studyId}/analysis/history", RunfoldJson.Options))!;
         var latest = (await client.GetFromJsonAsync<AnalysisSnapshotDto>($"/api/studies/{studyId}/analysis", RunfoldJson.Options))!;
@@ -162,6 +167,9 @@ public static class AnalysisLatencyBenchmark
 
         public Uri Address { get; }
 
+        /// <summary>The server's log line of each snapshot it stored, with the time of the fits and of each stage.</summary>
+        public System.Collections.Concurrent.ConcurrentQueue<string> SnapshotLines { get; } = new();
+
         public static async Task<ServerUnderTest> StartAsync(string database)
         {
             var port = FreePort();
@@ -183,11 +191,11 @@ public static class AnalysisLatencyBenchmark
             start.Environment["RUNFOLD_TOKEN_PER_MINUTE"] = "100000";
             start.Environment["RUNFOLD_SIGNIN_PER_MINUTE"] = "1000"; // ten people sign in from one address
             var process = Process.Start(start) ?? throw new InvalidOperationException("The server did not start.");
-            process.OutputDataReceived += (_, _) => { };
+            var server = new ServerUnderTest(process, address);
+            process.OutputDataReceived += (_, e) => { if (e.Data is { } line && line.Contains(" after the refit started (", StringComparison.Ordinal)) server.SnapshotLines.Enqueue(line); };
             process.ErrorDataReceived += (_, e) => { if (e.Data is { Length: > 0 } line) Console.Error.WriteLine("  server: " + line); };
             process.BeginOutputReadLine();
             process.BeginErrorReadLine();
-            var server = new ServerUnderTest(process, address);
             using var probe = new HttpClient { BaseAddress = address };
             var clock = Stopwatch.StartNew();
             while (true)
