@@ -85,6 +85,56 @@ public sealed class RoleMatrixTests(RoleMatrixFixture fixture) : IClassFixture<R
         Assert.True(failures.Count == 0, $"{endpoint}:\n" + string.Join("\n", failures));
     }
 
+    /// <summary>Creating studies and accounts, and listing accounts, belong to the admin: a study's lead is refused
+    /// like everyone else, an anonymous caller is asked to sign in, and nothing is stored.</summary>
+    [Fact]
+    public async Task Only_the_admin_creates_studies_and_accounts()
+    {
+        var failures = new List<string>();
+        var requests = new (string What, Func<HttpRequestMessage> Make, int Admin)[]
+        {
+            ("POST study", () => Json(HttpMethod.Post, "/api/studies", JsonSerializer.Serialize(TestTeam.HeatSinkStudy("Not allowed"), RunfoldJson.Options)), 201),
+            ("POST user", () => Json(HttpMethod.Post, "/api/users", $$"""{"userName":"{{"u" + Guid.NewGuid().ToString("N")[..12]}}","password":"{{TestTeam.Password}}"}"""), 201),
+            ("GET users", () => new(HttpMethod.Get, "/api/users"), 200),
+        };
+        await using var db = fixture.App.Db();
+        var studiesBefore = db.Studies.Count();
+        var usersBefore = db.Users.Count();
+        foreach (var (what, make, _) in requests)
+        {
+            foreach (var who in Who)
+            {
+                using var client = fixture.App.ClientWithToken(fixture.Tokens[who]);
+                var response = await client.SendAsync(make());
+                var expected = who == "anonymous" ? 401 : 403;
+                if ((int)response.StatusCode != expected) failures.Add($"{what} by {who}: expected {expected}, got {(int)response.StatusCode}");
+                else Assert.Equal("application/problem+json", response.Content.Headers.ContentType?.MediaType);
+            }
+        }
+        Assert.True(failures.Count == 0, string.Join("\n", failures));
+        Assert.Equal((studiesBefore, usersBefore), (db.Studies.Count(), db.Users.Count()));
+        using var admin = fixture.App.AdminClient();
+        foreach (var (what, make, adminStatus) in requests)
+            Assert.True((int)(await admin.SendAsync(make())).StatusCode == adminStatus, $"{what} by the admin");
+    }
+
+    /// <summary>The list of studies names only the caller's own: the outsider sees the study she leads elsewhere,
+    /// never this one.</summary>
+    [Fact]
+    public async Task The_study_list_shows_each_person_only_their_studies()
+    {
+        async Task<List<string>> NamesAsync(string who)
+        {
+            using var client = fixture.App.ClientWithToken(fixture.Tokens[who]);
+            return [.. (await (await client.GetAsync("/api/studies")).ReadAsync<List<StudySummary>>()).Select(s => s.Name)];
+        }
+        Assert.Contains("Roles", await NamesAsync("vik"));
+        Assert.DoesNotContain("Elsewhere", await NamesAsync("vik"));
+        Assert.Equal(["Elsewhere"], await NamesAsync("olga"));
+        using var anonymous = fixture.App.ClientWithToken(null);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await anonymous.GetAsync("/api/studies")).StatusCode);
+    }
+
     /// <summary>A fresh request; run-level requests get a fresh run claimed by ana (or failed by her, for reopen).</summary>
     private async Task<HttpRequestMessage> RequestAsync(string endpoint)
     {

@@ -8,10 +8,11 @@ public sealed class HeatSinkEstimateTests
     [Fact]
     public void Fin_efficiency_and_finned_surface_match_a_published_worked_solution()
     {
-        // Source: Y. A. Çengel, Heat Transfer: A Practical Approach, ch. 3 "Steady Heat Conduction", solutions
-        // manual, the circuit board cooled by 20 copper plate fins: h = 45 W/m²·K, k = 386 W/m·K, fins 2 mm thick
-        // and 2 cm long (adiabatic tip); m = 10.80 1/m, η = 0.985; with 0.009 m² unfinned and 0.126 m² finned area,
-        // 15 W into 37 °C air gives a base temperature of 39.5 °C.
+        // Source: Y. A. Çengel & A. J. Ghajar, Heat and Mass Transfer: Fundamentals and Applications (6th ed.), ch. 3
+        // "Steady Heat Conduction": the 15 W circuit board of Prob. 3-202 with 20 plate fins, 15 cm wide, in its copper
+        // version as the chapter's solutions work it (the problem text of that version was not seen): h = 45 W/m²·K,
+        // k = 386 W/m·K, fins 2 mm thick and 2 cm long (adiabatic tip); m = 10.80 1/m, η = 0.985; with 0.009 m²
+        // unfinned and 0.126 m² finned area (tips included), 15 W into 37 °C air gives a base temperature of 39.5 °C.
         var m = HeatSinkEstimate.FinParameter(45, 386, 0.002);
         Assert.Equal(10.80, m, 2);
         var efficiency = HeatSinkEstimate.FinEfficiency(m * 0.02);

@@ -67,8 +67,10 @@ public sealed class PolynomialModelTests
     [Fact]
     public void The_coefficients_of_Montgomerys_example_give_the_printed_equation_in_natural_units()
     {
-        // Coded model, from memory of Montgomery (2001), Example 11-2: ŷ = 79.94 + 0.995 x1 + 0.515 x2 − 1.376 x1² − 1.001 x2²
-        // + 0.250 x1x2, standard errors 0.12, 0.094, 0.094, 0.101, 0.101, 0.133.
+        // Montgomery (2001), Example 11-2, Table 11-7 (the fitted quadratic: coded estimates to two decimals with their
+        // standard errors 0.12, 0.094, 0.094, 0.10, 0.10, 0.13), and the stationary-point passage that follows it, which
+        // prints b = (0.995, 0.515) and B = [[−1.376, 0.1250], [0.1250, −1.001]] (so the interaction is 0.250). Read in
+        // a public transcription of the chapter, not in the book itself.
         var (space, coded, yield) = MontgomeryExample();
         var model = PolynomialModel.Fit(space, coded, yield, new PolynomialOptions { Selection = TermSelection.None }).Model!;
         var c = model.Coefficients.ToDictionary(r => r.Term);
@@ -77,14 +79,16 @@ public sealed class PolynomialModelTests
         Assert.Equal(0.515, c["temperature"].Estimate, 3);
         Assert.Equal(-1.376, c["time²"].Estimate, 3);
         Assert.Equal(-1.001, c["temperature²"].Estimate, 3);
-        Assert.Equal(0.250, c["time·temperature"].Estimate, 3);
+        Assert.Equal(0.1250, c["time·temperature"].Estimate / 2, 4);
         Assert.Equal(0.12, c["intercept"].StandardError, 2);
         Assert.Equal(0.094, c["time"].StandardError, 3);
-        Assert.Equal(0.101, c["time²"].StandardError, 3);
-        Assert.Equal(0.133, c["time·temperature"].StandardError, 3);
+        Assert.Equal(0.094, c["temperature"].StandardError, 3);
+        Assert.Equal(0.10, c["time²"].StandardError, 2);
+        Assert.Equal(0.10, c["temperature²"].StandardError, 2);
+        Assert.Equal(0.13, c["time·temperature"].StandardError, 2);
         Assert.Equal(c["time"].Estimate / c["time"].StandardError, c["time"].T, 10);
 
-        // Printed equation in natural units (ReliaWiki reproduction of the book's final equation):
+        // Printed equation in natural units (Table 11-7, the same transcription; ReliaWiki reproduces it too):
         // yield = −1430.52285 + 7.80749 time + 13.27053 temp − 0.05505 time² − 0.04005 temp² + 0.01 time·temp.
         // With x1 = (time − 85)/5 and x2 = (temp − 175)/5 the coded coefficients expand to these.
         double b0 = c["intercept"].Estimate, b1 = c["time"].Estimate, b2 = c["temperature"].Estimate;
