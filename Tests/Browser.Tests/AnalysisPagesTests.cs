@@ -93,6 +93,10 @@ public sealed class AnalysisPagesTests : IAsyncLifetime
             await Assertions.Expect(page.Locator("h2", new() { HasText = heading }).First).ToBeVisibleAsync();
             await Assertions.Expect(page.Locator(".snapshot-status")).ToContainTextAsync(new Regex(@"Analysis \d+"));
             await Assertions.Expect(page.Locator(".js-plotly-plot").First).ToBeAttachedAsync(new() { Timeout = 20_000 });
+            // Every chart of the page drawn (Plotly's own SVG in it), not just the first.
+            await page.WaitForFunctionAsync("() => [...document.querySelectorAll('figure.analysis-chart')].every(f => f.querySelector('.js-plotly-plot .main-svg'))",
+                null, new PageWaitForFunctionOptions { Timeout = 30_000 });
+            await Assertions.Expect(page.Locator(".chart-failed")).ToHaveCountAsync(0);
             await page.WaitForTimeoutAsync(600); // let Plotly finish its transitions before the picture
             await ChromiumBrowser.ScreenshotAsync(page, $"analysis-{path}-{width}");
         }

@@ -31,6 +31,27 @@ public sealed class ModelViewTests : AnalysisTestContext
     }
 
     [Fact]
+    public void Of_several_kernels_compared_only_the_chosen_one_is_marked_and_each_says_which_it_is()
+    {
+        var (study, snapshot) = Serve();
+        var first = snapshot.Responses[0];
+        var compared = new List<ModelScoreDto>
+        {
+            new("gaussianProcess", "Gaussian process, squared-exponential kernel, constant trend", 0.019, 0.96),
+            new("gaussianProcess", "Gaussian process, Matérn 5/2 kernel, constant trend", 0.015, 0.98),
+            new("gaussianProcess", "Gaussian process, Matérn 3/2 kernel, constant trend", 0.018, 0.97),
+            new("rbf", "radial basis functions, cubic kernel, linear tail", 0.032, 0.90),
+        };
+        var model = first.Model! with { Kind = "gaussianProcess", Description = "Gaussian process, Matérn 5/2 kernel, constant trend", Compared = compared };
+        Analysis.Latest = Outcome<AnalysisSnapshotDto?>.Ok(snapshot with { Responses = [first with { Model = model }, .. snapshot.Responses.Skip(1)] });
+        var cut = Render<ModelPage>(p => p.Add(c => c.StudyId, 1));
+        var chosen = Assert.Single(cut.FindAll(".compared tbody tr.chosen"));
+        Assert.Contains("Matérn 5/2 kernel", chosen.TextContent, StringComparison.Ordinal);
+        Assert.Equal(4, cut.FindAll(".compared .model-detail").Count);
+        _ = study;
+    }
+
+    [Fact]
     public void A_response_without_a_model_says_why_and_how_many_runs_are_still_needed()
     {
         var (study, runs) = SampleAnalysis.HeatSink(done: 3);
